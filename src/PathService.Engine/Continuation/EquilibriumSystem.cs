@@ -1,0 +1,113 @@
+using System.Diagnostics;
+using PathService.Engine.Assembly;
+using PathService.Engine.Model;
+using PathService.Engine.Sparse;
+
+namespace PathService.Engine.Continuation;
+
+/// <summary>
+/// The discrete equilibrium problem r(u, λ) = f_int(u) − F_const − λ F_ref = 0 on the free DOFs, with its
+/// tangent, one reusable LDLᵀ factorisation and the work vectors of an iteration (allocated once).
+/// Full vectors hold 3 entries per node; free vectors one per equation of the <see cref="DofMap"/>.
+/// </summary>
+internal sealed class EquilibriumSystem
+{
+    public StructuralModel Model { get; }
+    public StructureAssembler Assembler { get; }
+    public LdlFactorization Factor { get; }
+    public double[] Values { get; }
+    public int FreeCount { get; }
+    public double[] ConstantFree { get; }
+    public double[] ReferenceFree { get; }
+    public double ReferenceNormSquared { get; }
+    public int Factorizations { get; private set; }
+    public TimeSpan FactorizationTime { get; private set; }
+    public double TinyPivotRatio { get; }
+
+    private readonly double[] _force;
+    private readonly int[] _fullOf;
+
+    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
+    {
+        Model = model;
+        TinyPivotRatio = tinyPivotRatio;
+        Assembler = new StructureAssembler(model);
+        Factor = new LdlFactorization(LdlSymbolic.Analyze(Assembler.Pattern, ordering));
+        Values = new double[Assembler.Pattern.NonZeroCount];
+        FreeCount = model.Dofs.FreeCount;
+        _fullOf = model.Dofs.FullOf;
+        _force = new double[3 * model.NodeCount];
+        ConstantFree = new double[FreeCount];
+        ReferenceFree = new double[FreeCount];
+        model.Dofs.Gather(model.ConstantLoad, ConstantFree);
+        model.Dofs.Gather(model.ReferenceLoad, ReferenceFree);
+        ReferenceNormSquared = Dot(ReferenceFree, ReferenceFree);
+    }
+
+    /// <summary>Assembles and factorises the consistent tangent at <paramref name="u"/> (full vector).</summary>
+    public LdlStatus Refactor(ReadOnlySpan<double> u)
+    {
+        Assembler.Tangent(u, Values);
+        long t0 = Stopwatch.GetTimestamp();
+        var status = Factor.Factorize(Values, TinyPivotRatio);
+        FactorizationTime += Stopwatch.GetElapsedTime(t0);
+        Factorizations++;
+        return status;
+    }
+
+    /// <summary>Residual r = f_int(u) − F_const − λF_ref on the free DOFs; returns ‖r‖ (NaN if any entry is not finite).</summary>
+    public double Residual(ReadOnlySpan<double> u, double lambda, Span<double> r)
+    {
+        Assembler.InternalForce(u, _force);
+        double s = 0;
+        for (int e = 0; e < FreeCount; e++)
+        {
+            double v = _force[_fullOf[e]] - ConstantFree[e] - lambda * ReferenceFree[e];
+            r[e] = v;
+            s += v * v;
+        }
+        return double.IsFinite(s) ? Math.Sqrt(s) : double.NaN;
+    }
+
+    /// <summary>Scale of the residual: max(‖F_const + λF_ref‖, ‖F_ref‖).</summary>
+    public double LoadNorm(double lambda)
+    {
+        double s = 0;
+        for (int e = 0; e < FreeCount; e++)
+        {
+            double v = ConstantFree[e] + lambda * ReferenceFree[e];
+            s += v * v;
+        }
+        return Math.Max(Math.Sqrt(s), Math.Sqrt(ReferenceNormSquared));
+    }
+
+    /// <summary>u_full += δ over the free DOFs.</summary>
+    public void AddFree(Span<double> full, ReadOnlySpan<double> delta, double scale = 1.0)
+    {
+        for (int e = 0; e < FreeCount; e++) full[_fullOf[e]] += scale * delta[e];
+    }
+
+    /// <summary>Full state at a displacement and load factor: displacements, bar forces and strains, reactions.</summary>
+    public StructureState Snapshot(ReadOnlySpan<double> u, double lambda)
+    {
+        var m = Model;
+        var forces = new double[m.BarCount];
+        var strains = new double[m.BarCount];
+        Assembler.BarForces(u, forces);
+        for (int b = 0; b < m.BarCount; b++)
+            strains[b] = Elements.BarKinematics.Evaluate(m.Coordinates, u, m.BarStart[b], m.BarEnd[b], m.BarLength[b], m.BarModulus[b], m.BarInitialStress[b]).Strain;
+        var reactions = new double[3 * m.NodeCount];
+        Assembler.InternalForce(u, _force);
+        var eq = m.Dofs.EquationOf;
+        for (int d = 0; d < reactions.Length; d++)
+            if (eq[d] < 0) reactions[d] = _force[d] - m.ConstantLoad[d] - lambda * m.ReferenceLoad[d];
+        return new StructureState(u.ToArray(), forces, strains, reactions);
+    }
+
+    public static double Dot(ReadOnlySpan<double> a, ReadOnlySpan<double> b)
+    {
+        double s = 0;
+        for (int i = 0; i < a.Length; i++) s += a[i] * b[i];
+        return s;
+    }
+}

@@ -1,0 +1,65 @@
+namespace PathService.Engine.Continuation;
+
+/// <summary>One item of a traced path, in the order it happened: points, cut steps, critical points, and a closing summary.</summary>
+public abstract record PathEvent;
+
+/// <summary>Stability of an equilibrium point from the inertia of its tangent (Sylvester's law of inertia).</summary>
+public enum Stability { Stable, Unstable }
+
+/// <summary>Full nodal and member state at a point. Vectors are in model order; displacements and reactions are 3 per node.</summary>
+public sealed record StructureState(double[] Displacements, double[] BarForces, double[] BarStrains, double[] Reactions);
+
+/// <summary>A converged equilibrium point.</summary>
+/// <param name="Index">0 for the start (λ = 0 with the constant load applied), then 1, 2, ...</param>
+/// <param name="ArcLength">Cumulative length of the path in the (u, ψλF) metric of the method.</param>
+/// <param name="Monitored">Monitored displacement components, in the order the controls list them.</param>
+/// <param name="NegativePivots">Number of negative pivots of LDLᵀ of the tangent at this point.</param>
+public sealed record PathPoint(
+    int Index, double LoadFactor, double ArcLength, double[] Monitored, int Iterations, double ResidualNorm,
+    int NegativePivots, Stability Stability, double Increment, StructureState? State) : PathEvent;
+
+public enum CutReason { MaxIterations, ResidualGrowth, NonFiniteValue, ComplexRoots, SingularTangent }
+
+/// <summary>A step that failed to converge and was retried with a smaller increment.</summary>
+public sealed record StepCut(int Step, int Attempt, CutReason Reason, double RejectedIncrement, double NextIncrement, int Iterations, double ResidualNorm, string Detail) : PathEvent;
+
+public enum CriticalPointKind { LimitPoint, Bifurcation }
+
+/// <summary>
+/// A critical point bracketed by a change of the negative-pivot count between two converged points and then
+/// located on the path by regula falsi on the tangent's eigenvalue nearest zero.
+/// </summary>
+/// <param name="LoadAlignment">|φ·F_ref| / (‖φ‖‖F_ref‖): near 1 for a limit point, near 0 for a bifurcation.</param>
+/// <param name="Mode">Critical (near-null) mode, full vector of 3 per node, largest component 1.</param>
+/// <param name="LoadFactorBefore">λ of the converged path point before the critical point (the bracket's first end).</param>
+/// <param name="Located">Whether the location met the tolerance; when false, λ_cr is the best estimate inside the bracket.</param>
+public sealed record CriticalPoint(
+    int Sequence, CriticalPointKind Kind, double LoadFactor, double LoadFactorBefore, double LoadFactorAfter,
+    int PointBefore, int PointAfter, int NegativePivotsBefore, int NegativePivotsAfter,
+    double LowestEigenvalue, double LoadAlignment, double[] Monitored, double[] Mode, bool Located, double Tolerance,
+    StructureState? State) : PathEvent;
+
+public enum StopReason
+{
+    TargetLoadFactorReached,
+    TargetDisplacementReached,
+    PointLimitReached,
+    CriticalPointReached,
+    Cancelled,
+    WallTimeExceeded,
+    /// <summary>A step failed after the permitted number of cuts (or the increment fell below its minimum).</summary>
+    Diverged,
+    /// <summary>The constant load (or prescribed displacements) could not be brought to equilibrium.</summary>
+    InitialStateFailed,
+}
+
+/// <summary>The closing record of a trace.</summary>
+public sealed record PathSummary(
+    StopReason Reason, string Message, double MaxLoadFactor, double FinalLoadFactor, int Points, int Steps,
+    int Iterations, int Cuts, int Factorizations, TimeSpan FactorizationTime, TimeSpan WallTime,
+    IReadOnlyList<CriticalPoint> CriticalPoints) : PathEvent
+{
+    /// <summary>Whether the trace ended by one of the caller's own stopping rules (not by failure or cancellation).</summary>
+    public bool Completed => Reason is StopReason.TargetLoadFactorReached or StopReason.TargetDisplacementReached
+        or StopReason.PointLimitReached or StopReason.CriticalPointReached;
+}

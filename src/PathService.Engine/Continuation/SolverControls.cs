@@ -1,0 +1,108 @@
+using PathService.Engine.Model;
+
+namespace PathService.Engine.Continuation;
+
+/// <summary>How the load factor and the displacements are advanced from one converged point to the next.</summary>
+public enum ContinuationMethod
+{
+    /// <summary>Newton-Raphson at prescribed load-factor increments; cannot pass a limit point.</summary>
+    LoadControl,
+    /// <summary>Newton-Raphson with one displacement component prescribed per step; passes load limit points but not snap-backs.</summary>
+    DisplacementControl,
+    /// <summary>Arc-length continuation (Riks 1979; Crisfield 1981): passes limit points and snap-backs.</summary>
+    ArcLength,
+}
+
+/// <summary>The arc-length constraint: cylindrical (displacements only, ψ = 0) or spherical (ψ = 1, load term included).</summary>
+public enum ArcLengthConstraint { Cylindrical, Spherical }
+
+/// <summary>Solver controls. Every number has a default suitable for a well-scaled model.</summary>
+public sealed record SolverControls
+{
+    public ContinuationMethod Method { get; init; } = ContinuationMethod.ArcLength;
+    public ArcLengthConstraint Constraint { get; init; } = ArcLengthConstraint.Cylindrical;
+
+    /// <summary>Load-factor increment of the first step. Arc-length derives its first arc length Δs₀ from it.</summary>
+    public double InitialLoadIncrement { get; init; } = 0.05;
+    /// <summary>Displacement control: the controlled component and its first increment (length unit).</summary>
+    public DofReference? ControlDof { get; init; }
+    public double DisplacementIncrement { get; init; }
+
+    /// <summary>Increments are kept within [min, max] × the first increment.</summary>
+    public double MinIncrementRatio { get; init; } = 1e-4;
+    public double MaxIncrementRatio { get; init; } = 10.0;
+    /// <summary>Iterations per step the adaptive rule aims at: next = current·(desired/used)^½ (Crisfield 1981; Ramm 1981).</summary>
+    public int DesiredIterations { get; init; } = 5;
+    public int MaxIterations { get; init; } = 25;
+    /// <summary>Convergence: ‖r‖ ≤ tol · max(‖F_const + λF_ref‖, ‖F_ref‖) over the free DOFs.</summary>
+    public double ResidualTolerance { get; init; } = 1e-8;
+    /// <summary>Consecutive halvings of one step before the trace stops as diverged.</summary>
+    public int MaxCutsPerStep { get; init; } = 10;
+
+    /// <summary>Stopping rules: whichever is met first ends the trace.</summary>
+    public int MaxPoints { get; init; } = 100;
+    public double? TargetLoadFactor { get; init; }
+    public DofReference? TargetDisplacementDof { get; init; }
+    public double? TargetDisplacement { get; init; }
+    public bool StopAtFirstCriticalPoint { get; init; }
+    public TimeSpan? WallTimeLimit { get; init; }
+
+    /// <summary>Displacement components reported at every point (in this order).</summary>
+    public IReadOnlyList<DofReference> Monitored { get; init; } = [];
+
+    /// <summary>Critical points: detect by inertia change, locate λ_cr to this relative tolerance.</summary>
+    public bool DetectCriticalPoints { get; init; } = true;
+    public double CriticalPointTolerance { get; init; } = 1e-9;
+    /// <summary>|φ·F_ref|/(‖φ‖‖F_ref‖) below this marks a bifurcation, above it a limit point (common practice, no source).</summary>
+    public double BifurcationThreshold { get; init; } = 1e-3;
+    /// <summary>Relative pivot size below which the tangent counts as singular (mechanism at the start).</summary>
+    public double TinyPivotRatio { get; init; } = 1e-11;
+
+    /// <summary>Full nodal and member state: every N-th point (0 = never), at critical points, at the last point.</summary>
+    public int FullStateEvery { get; init; }
+    public bool FullStateAtCriticalPoints { get; init; } = true;
+    public bool FullStateAtEnd { get; init; } = true;
+
+    /// <summary>Checks the controls against the model; returns every problem with its field name.</summary>
+    public IReadOnlyList<ValidationFinding> Validate(StructuralModel model)
+    {
+        var f = new List<ValidationFinding>();
+        void Err(string field, string msg) => f.Add(new(FindingSeverity.Error, FindingCode.AbsurdMagnitude, $"controls.{field}", null, msg));
+        void Positive(double v, string field) { if (!double.IsFinite(v) || v <= 0) Err(field, $"{field} is {v}; it must be a positive finite number"); }
+        void Dof(DofReference? d, string field)
+        {
+            if (d is null) return;
+            if (!model.TryGetNode(d.Node, out int n)) { f.Add(new(FindingSeverity.Error, FindingCode.UnknownNode, $"controls.{field}.node", d.Node, $"{field} refers to node '{d.Node}', which is not defined")); return; }
+            if (d.Direction is not (Axis.X or Axis.Y or Axis.Z)) { f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}.direction", d.Node, $"{field} direction is not one of x, y, z")); return; }
+            if (model.Dofs.EquationOf[DofMap.Full(n, d.Direction)] < 0 && field == "control_dof")
+                f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}", d.Node, $"control DOF {d} is restrained by a support; choose a free direction"));
+        }
+        if (Method is not (ContinuationMethod.LoadControl or ContinuationMethod.DisplacementControl or ContinuationMethod.ArcLength)) Err("method", "unknown continuation method");
+        if (Constraint is not (ArcLengthConstraint.Cylindrical or ArcLengthConstraint.Spherical)) Err("constraint", "unknown arc-length constraint");
+        if (Method != ContinuationMethod.DisplacementControl) Positive(InitialLoadIncrement, "initial_load_increment");
+        if (Method == ContinuationMethod.DisplacementControl)
+        {
+            if (ControlDof is null) Err("control_dof", "displacement control needs a control DOF (node and direction)");
+            if (!double.IsFinite(DisplacementIncrement) || DisplacementIncrement == 0) Err("displacement_increment", $"displacement_increment is {DisplacementIncrement}; it must be non-zero and finite");
+        }
+        Dof(ControlDof, "control_dof");
+        Dof(TargetDisplacementDof, "target_displacement_dof");
+        for (int i = 0; i < Monitored.Count; i++) Dof(Monitored[i], $"monitored[{i}]");
+        Positive(MinIncrementRatio, "min_increment_ratio");
+        Positive(MaxIncrementRatio, "max_increment_ratio");
+        if (MinIncrementRatio > 1 || MaxIncrementRatio < 1) Err("min_increment_ratio", "increment bounds must bracket the first increment (min ≤ 1 ≤ max)");
+        if (DesiredIterations < 1 || DesiredIterations > 100) Err("desired_iterations", $"desired_iterations is {DesiredIterations}; it must be 1..100");
+        if (MaxIterations < 1 || MaxIterations > 500) Err("max_iterations", $"max_iterations is {MaxIterations}; it must be 1..500");
+        if (!double.IsFinite(ResidualTolerance) || ResidualTolerance <= 0 || ResidualTolerance >= 1) Err("residual_tolerance", $"residual_tolerance is {ResidualTolerance}; it must lie in (0, 1)");
+        if (MaxCutsPerStep < 0 || MaxCutsPerStep > 60) Err("max_cuts_per_step", $"max_cuts_per_step is {MaxCutsPerStep}; it must be 0..60");
+        if (MaxPoints < 1) Err("max_points", $"max_points is {MaxPoints}; it must be at least 1");
+        if (TargetLoadFactor is { } t && !double.IsFinite(t)) Err("target_load_factor", "target_load_factor must be finite");
+        if (TargetDisplacement is { } td && (!double.IsFinite(td) || td == 0)) Err("target_displacement", "target_displacement must be finite and non-zero");
+        if (TargetDisplacement is not null && TargetDisplacementDof is null && ControlDof is null) Err("target_displacement_dof", "a target displacement needs the DOF it applies to");
+        if (!double.IsFinite(CriticalPointTolerance) || CriticalPointTolerance <= 0 || CriticalPointTolerance >= 0.1) Err("critical_point_tolerance", "critical_point_tolerance must lie in (0, 0.1)");
+        if (!double.IsFinite(BifurcationThreshold) || BifurcationThreshold <= 0 || BifurcationThreshold >= 1) Err("bifurcation_threshold", "bifurcation_threshold must lie in (0, 1)");
+        if (FullStateEvery < 0) Err("full_state_every", "full_state_every must be zero or positive");
+        if (WallTimeLimit is { } w && w <= TimeSpan.Zero) Err("wall_time_limit", "wall_time_limit must be positive");
+        return f;
+    }
+}

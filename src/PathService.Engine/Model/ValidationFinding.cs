@@ -1,0 +1,51 @@
+namespace PathService.Engine.Model;
+
+/// <summary>How serious a finding is: errors stop the analysis, warnings are reported alongside results.</summary>
+public enum FindingSeverity { Error, Warning }
+
+/// <summary>Machine-readable kind of a validation finding (stable across versions; clients may switch on it).</summary>
+public enum FindingCode
+{
+    MissingId,
+    DuplicateId,
+    UnknownNode,
+    NonFiniteNumber,
+    AbsurdMagnitude,
+    ZeroLengthBar,
+    SameNodeAtBothEnds,
+    NonPositiveStiffness,
+    NonPositiveArea,
+    NoReferenceLoad,
+    UnconnectedNode,
+    DuplicateSupport,
+    EmptyModel,
+    LoadOnRestrainedDirection,
+    CoincidentNodes,
+    InvalidDirection,
+}
+
+/// <summary>
+/// One problem found in a model definition. <see cref="FieldPath"/> names the offending field in the
+/// caller's terms (for example <c>bars[4].area</c>), <see cref="ItemId"/> the node, bar or spring id.
+/// </summary>
+public sealed record ValidationFinding(FindingSeverity Severity, FindingCode Code, string FieldPath, string? ItemId, string Message)
+{
+    public override string ToString() => $"{Severity} {Code} at {FieldPath}{(ItemId is null ? "" : $" ('{ItemId}')")}: {Message}";
+}
+
+/// <summary>Thrown when a model definition has one or more errors; carries every finding, not just the first.</summary>
+public sealed class ModelValidationException(IReadOnlyList<ValidationFinding> findings)
+    : Exception(findings.Count == 0 ? "The model is invalid." : $"The model is invalid: {findings[0]}" + (findings.Count > 1 ? $" (and {findings.Count - 1} more)" : ""))
+{
+    public IReadOnlyList<ValidationFinding> Findings { get; } = findings;
+}
+
+/// <summary>
+/// Thrown when the tangent stiffness at the start of an analysis is singular: the structure is a mechanism.
+/// Names the node and the direction that the bars, springs and supports leave free.
+/// </summary>
+public sealed class MechanismException(string nodeId, Axis direction, string message) : Exception(message)
+{
+    public string NodeId { get; } = nodeId;
+    public Axis Direction { get; } = direction;
+}

@@ -1,0 +1,105 @@
+using PathService.Engine.Continuation;
+using PathService.Engine.Sparse;
+
+namespace PathService.Engine.Stability;
+
+/// <summary>
+/// Locates a critical point bracketed by two converged path points a and b whose tangents differ in their number of
+/// negative pivots. States between them are found by re-solving equilibrium on hyperplanes normal to the displacement
+/// chord d = u_b − u_a at fraction t (Riks' constraint, linear, so no complex roots), starting from the secant
+/// predictor. The eigenvalue of the tangent nearest zero, μ(t), changes sign in the bracket; its root is found by
+/// the Illinois variant of regula falsi (Dowell and Jarratt 1971), kept inside the bracket by the inertia at each trial.
+/// </summary>
+internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corrector, SolverControls controls)
+{
+    public sealed record Result(double LoadFactor, double[] Displacement, double Eigenvalue, double[] ModeFree, bool Located, double Tolerance);
+
+    public Result Locate(double[] ua, double lambdaA, int na, double[] ub, double lambdaB, int nb, double[]? modeGuess, CancellationToken ct)
+    {
+        int n = sys.FreeCount;
+        var fullOf = sys.Model.Dofs.FullOf;
+        var d = new double[n];
+        for (int e = 0; e < n; e++) d[e] = ub[fullOf[e]] - ua[fullOf[e]];
+        double dl = lambdaB - lambdaA;
+        double dd = EquilibriumSystem.Dot(d, d);
+        // Hold the displacement projection on the chord, (u − u_a)·d = t‖d‖²: within one converged step the path is
+        // monotone in that projection, whereas λ is not near a limit point. λ alone only when the chord has no displacement.
+        double w = dd > 0 ? 0.0 : 1.0;
+
+        var (muA, modeA) = EigenAt(ua, modeGuess);
+        var (muB, modeB) = EigenAt(ub, modeA);
+        double tLo = 0, tHi = 1, fLo = muA, fHi = muB;
+        // Converged when the eigenvalue nearest zero is this small against its values at the bracket ends.
+        double muScale = Math.Abs(muA) + Math.Abs(muB);
+        int side = 0, sinceHalved = 0;
+        double width = 1;
+        double[] bestU = (double[])ub.Clone();
+        double bestLambda = lambdaB, bestMu = muB, runnerUpLambda = lambdaA;
+        double[] bestMode = modeB;
+        bool located = false;
+        var u = new double[ua.Length];
+        var dU = new double[n];
+
+        for (int iter = 0; iter < 80 && !ct.IsCancellationRequested; iter++)
+        {
+            // Illinois regula falsi on μ(t); bisection when the bracket has not halved in three tries.
+            double t = 0.5 * (tLo + tHi);
+            if (sinceHalved < 3 && Math.Sign(fLo) != Math.Sign(fHi))
+            {
+                double tf = tLo + fLo / (fLo - fHi) * (tHi - tLo);
+                if (tf > tLo && tf < tHi) t = tf;
+            }
+            if (!TrySolveAt(t, ua, lambdaA, d, dl, w, u, dU, out double lambda, ct))
+            {
+                t = 0.5 * (tLo + tHi);
+                if (!TrySolveAt(t, ua, lambdaA, d, dl, w, u, dU, out lambda, ct)) break;
+            }
+            var status = sys.Refactor(u);
+            int inertia = status == LdlStatus.ZeroPivot ? -1 : sys.Factor.NegativePivotCount;
+            var (mu, mode) = status == LdlStatus.ZeroPivot ? (0.0, bestMode) : NearNullMode.Compute(sys, bestMode);
+            if (Math.Abs(mu) <= Math.Abs(bestMu))
+            {
+                runnerUpLambda = bestLambda;
+                bestU = (double[])u.Clone(); bestLambda = lambda; bestMu = mu; bestMode = mode;
+            }
+            if (status == LdlStatus.ZeroPivot || Math.Abs(mu) <= 1e-9 * muScale) { located = true; break; }
+            if (inertia == na)
+            {
+                tLo = t; fLo = mu;
+                if (side == -1) fHi *= 0.5; // Illinois: halve the retained end's value when the same end moves twice
+                side = -1;
+            }
+            else
+            {
+                tHi = t; fHi = mu;
+                if (side == 1) fLo *= 0.5;
+                side = 1;
+            }
+            if (tHi - tLo <= 0.5 * width) { width = tHi - tLo; sinceHalved = 0; } else sinceHalved++;
+            if (tHi - tLo < 1e-12) { located = true; break; }
+        }
+        double achieved = Math.Abs(bestLambda - runnerUpLambda) / Math.Max(1.0, Math.Abs(bestLambda));
+        located &= achieved <= Math.Max(controls.CriticalPointTolerance, 1e-12) || Math.Abs(bestMu) <= 1e-9 * muScale;
+        return new Result(bestLambda, bestU, bestMu, bestMode, located, achieved);
+    }
+
+    private (double Mu, double[] Mode) EigenAt(double[] u, double[]? guess)
+    {
+        if (sys.Refactor(u) == LdlStatus.ZeroPivot) return (0.0, guess ?? new double[sys.FreeCount]);
+        return NearNullMode.Compute(sys, guess);
+    }
+
+    private bool TrySolveAt(double t, double[] ua, double lambdaA, double[] d, double dl, double w,
+        double[] u, double[] dU, out double lambda, CancellationToken ct)
+    {
+        Array.Copy(ua, u, ua.Length);
+        // Secant predictor: the point at fraction t of the chord from a to b.
+        for (int e = 0; e < dU.Length; e++) dU[e] = t * d[e];
+        sys.AddFree(u, dU);
+        lambda = lambdaA + t * dl;
+        double dLam = t * dl;
+        var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: d, NormalLoad: dl, LoadWeight: w);
+        var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, Math.Min(controls.ResidualTolerance, 1e-10), ct);
+        return outcome == CorrectorOutcome.Converged;
+    }
+}
