@@ -18,7 +18,16 @@ public sealed record PathPoint(
     int Index, double LoadFactor, double ArcLength, double[] Monitored, int Iterations, double ResidualNorm,
     int NegativePivots, Stability Stability, double Increment, StructureState? State) : PathEvent;
 
-public enum CutReason { MaxIterations, ResidualGrowth, NonFiniteValue, ComplexRoots, SingularTangent }
+public enum CutReason
+{
+    MaxIterations,
+    ResidualGrowth,
+    NonFiniteValue,
+    ComplexRoots,
+    SingularTangent,
+    /// <summary>Load control converged on a distant branch (the structure snapped through): rejected so that the path is not skipped.</summary>
+    PathJump,
+}
 
 /// <summary>A step that failed to converge and was retried with a smaller increment.</summary>
 public sealed record StepCut(int Step, int Attempt, CutReason Reason, double RejectedIncrement, double NextIncrement, int Iterations, double ResidualNorm, string Detail) : PathEvent;

@@ -21,6 +21,7 @@ public sealed class PathTracer
     private readonly SolverControls _c;
     private readonly OrderingMethod _ordering;
 
+
     public PathTracer(StructuralModel model, SolverControls controls, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
     {
         _model = model;
@@ -101,6 +102,7 @@ public sealed class PathTracer
         bool havePrevious = false;
         var dU = new double[n];
         double[]? modeGuess = null;
+        var midpoint = new double[u.Length];
 
         while (true)
         {
@@ -135,13 +137,23 @@ public sealed class PathTracer
                 };
                 outcome = corrector.Correct(u, ref lambda, dU, ref dLam, constraint, _c.MaxIterations, _c.ResidualTolerance, ct);
                 iterations += corrector.Iterations;
+                var reason = corrector.Reason;
+                string detail = corrector.Detail;
+                if (outcome == CorrectorOutcome.Converged && _c.Method == ContinuationMethod.LoadControl && JumpedOverUnstablePart(sys, prevU, u, inertia, midpoint))
+                {
+                    // Newton under load control can land on a remote branch after a snap-through, silently skipping
+                    // the unstable part of the path and its critical points; reject such a step.
+                    outcome = CorrectorOutcome.Cut;
+                    reason = CutReason.PathJump;
+                    detail = "the tangent half-way through the step has a different number of negative pivots: the step jumped over an unstable part of the path (snap-through)";
+                }
                 if (outcome != CorrectorOutcome.Cut) { lastDLam = dLam; break; }
                 cuts++;
                 attempt++;
                 double rejected = increment;
                 increment *= 0.5;
                 bool giveUp = attempt > _c.MaxCutsPerStep || Math.Abs(increment) < minInc;
-                yield return new StepCut(steps, attempt, corrector.Reason, rejected, giveUp ? 0 : increment, corrector.Iterations, corrector.ResidualNorm, corrector.Detail);
+                yield return new StepCut(steps, attempt, reason, rejected, giveUp ? 0 : increment, corrector.Iterations, corrector.ResidualNorm, detail);
                 if (giveUp)
                 {
                     Array.Copy(prevU, u, u.Length);
@@ -149,7 +161,7 @@ public sealed class PathTracer
                     string hint = _c.Method == ContinuationMethod.LoadControl
                         ? " Load control cannot pass a limit point; use arc-length continuation to follow the path beyond it."
                         : "";
-                    yield return Summary(StopReason.Diverged, $"step {steps} did not converge after {attempt} cuts ({corrector.Reason}: {corrector.Detail}).{hint}");
+                    yield return Summary(StopReason.Diverged, $"step {steps} did not converge after {attempt} cuts ({reason}: {detail}).{hint}");
                     yield break;
                 }
             }
@@ -208,6 +220,16 @@ public sealed class PathTracer
         PathPoint MakePoint(int index, int its, double res, int negatives, double inc, bool full) => new(
             index, lambda, arc, monitored.Select(d => u[d]).ToArray(), its, res, negatives,
             negatives == 0 ? Stability.Stable : Stability.Unstable, Math.Abs(inc), full ? sys.Snapshot(u, lambda) : null);
+    }
+
+    /// <summary>
+    /// Load control only: factorises the tangent at the mid-state of a converged step. A different negative-pivot count
+    /// there than at the step's start means the step passed over unstable states, i.e. it snapped to a remote branch.
+    /// </summary>
+    private static bool JumpedOverUnstablePart(EquilibriumSystem sys, double[] start, double[] end, int startInertia, double[] midpoint)
+    {
+        for (int i = 0; i < midpoint.Length; i++) midpoint[i] = 0.5 * (start[i] + end[i]);
+        return sys.Refactor(midpoint) != LdlStatus.ZeroPivot && sys.Factor.NegativePivotCount != startInertia;
     }
 
     private bool StopRuleMet(double[] u, double lambda, int targetDof) =>
