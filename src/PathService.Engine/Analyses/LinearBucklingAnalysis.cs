@@ -1,0 +1,128 @@
+using MathNet.Numerics.LinearAlgebra;
+using PathService.Engine.Assembly;
+using PathService.Engine.Continuation;
+using PathService.Engine.Model;
+using PathService.Engine.Sparse;
+using PathService.Engine.Stability;
+
+namespace PathService.Engine.Analyses;
+
+/// <summary>A linearised buckling mode: critical load factor μ (on the reference load), mode (3 per node, largest component 1).</summary>
+public sealed record BucklingMode(int Number, double LoadFactor, double[] Shape, double LoadAlignment);
+
+public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int Iterations, bool Converged);
+
+/// <summary>
+/// Linearised (classical) buckling: (K_A + μ K_σ) φ = 0, where K_A is the tangent at the undeformed state plus the
+/// geometric stiffness of the linear stresses under the constant load, and K_σ the geometric stiffness of the linear
+/// stresses under the reference load. The lowest positive μ are found by subspace iteration with Rayleigh-Ritz
+/// (K.-J. Bathe, "Finite Element Procedures", 1996, §11.6) on θ = 1/μ of −K_σ φ = θ K_A φ, using the sparse LDLᵀ of K_A.
+/// It ignores the change of geometry before buckling, which is why it can overestimate a snap-through load badly.
+/// </summary>
+public static class LinearBucklingAnalysis
+{
+    public static LinearBucklingResult Run(StructuralModel model, int modeCount = 3, int maxIterations = 200, double tolerance = 1e-10,
+        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
+    {
+        if (modeCount < 1) throw new ArgumentOutOfRangeException(nameof(modeCount), "at least one mode must be requested");
+        var sys = new EquilibriumSystem(model, tinyPivotRatio, ordering);
+        var asm = sys.Assembler;
+        int n = sys.FreeCount;
+        var zero = new double[3 * model.NodeCount];
+        MechanismDetector.ThrowIfSingular(sys, sys.Refactor(zero));
+
+        // Linear stresses under the reference load and (if any) under the constant part.
+        var refResult = LinearStaticAnalysis.Solve(model, sys, 1.0, includeConstant: false, withPrescribed: false);
+        var sRef = new double[model.BarCount];
+        for (int b = 0; b < model.BarCount; b++) sRef[b] = refResult.BarForces[b] / model.BarArea[b];
+        var kA = (double[])sys.Values.Clone();
+        if (model.HasConstantLoad || model.HasPrescribedDisplacements)
+        {
+            var constResult = LinearStaticAnalysis.Solve(model, sys, 0.0, includeConstant: true, withPrescribed: true);
+            var dS = new double[model.BarCount];
+            for (int b = 0; b < model.BarCount; b++) dS[b] = constResult.BarForces[b] / model.BarArea[b] - model.BarInitialStress[b];
+            var kc = new double[kA.Length];
+            asm.Tangent(zero, kc, TangentParts.GeometricOnly, dS);
+            for (int i = 0; i < kA.Length; i++) kA[i] += kc[i];
+        }
+        var kS = new double[kA.Length];
+        asm.Tangent(zero, kS, TangentParts.GeometricOnly, sRef);
+        kA.CopyTo(sys.Values, 0);
+        var status = sys.Factor.Factorize(sys.Values, tinyPivotRatio);
+        if (status == LdlStatus.ZeroPivot || sys.Factor.NegativePivotCount > 0)
+            throw new InvalidOperationException("the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
+
+        int q = Math.Min(n, Math.Max(2 * modeCount, modeCount + 8));
+        int p = Math.Min(modeCount, n);
+        var X = Matrix<double>.Build.Dense(n, q);
+        var rng = new Random(2024);
+        for (int j = 0; j < q; j++)
+            for (int i = 0; i < n; i++) X[i, j] = j == 0 ? sys.ReferenceFree[i] + 1e-3 * (rng.NextDouble() - 0.5) : rng.NextDouble() - 0.5;
+
+        var col = new double[n];
+        var bx = new double[n];
+        var Y = Matrix<double>.Build.Dense(n, q);
+        var BX = Matrix<double>.Build.Dense(n, q);
+        var BY = Matrix<double>.Build.Dense(n, q);
+        double[] theta = new double[q], previous = new double[q];
+        bool converged = false;
+        int it;
+        for (it = 1; it <= maxIterations; it++)
+        {
+            // Y = K_A⁻¹ (−K_σ X)
+            for (int j = 0; j < q; j++)
+            {
+                for (int i = 0; i < n; i++) col[i] = X[i, j];
+                asm.Multiply(kS, col, bx);
+                for (int i = 0; i < n; i++) { bx[i] = -bx[i]; BX[i, j] = bx[i]; }
+                sys.Factor.Solve(bx);
+                for (int i = 0; i < n; i++) Y[i, j] = bx[i];
+            }
+            for (int j = 0; j < q; j++)
+            {
+                for (int i = 0; i < n; i++) col[i] = Y[i, j];
+                asm.Multiply(kS, col, bx);
+                for (int i = 0; i < n; i++) BY[i, j] = -bx[i];
+            }
+            // Rayleigh-Ritz: Ā = Yᵀ K_A Y = Yᵀ(−K_σ X), C̄ = Yᵀ(−K_σ)Y; C̄ z = θ Ā z.
+            var aBar = Y.TransposeThisAndMultiply(BX);
+            var cBar = Y.TransposeThisAndMultiply(BY);
+            aBar = 0.5 * (aBar + aBar.Transpose());
+            cBar = 0.5 * (cBar + cBar.Transpose());
+            var L = aBar.Cholesky().Factor;
+            var Linv = L.Inverse();
+            var m = Linv * cBar * Linv.Transpose();
+            m = 0.5 * (m + m.Transpose());
+            var evd = m.Evd(Symmetricity.Symmetric);
+            var order = Enumerable.Range(0, q).OrderByDescending(k => evd.EigenValues[k].Real).ToArray();
+            var Z = Linv.Transpose() * evd.EigenVectors;
+            for (int k = 0; k < q; k++) theta[k] = evd.EigenValues[order[k]].Real;
+            var Xn = Y * Z;
+            for (int k = 0; k < q; k++)
+            {
+                var v = Xn.Column(order[k]);
+                X.SetColumn(k, v / v.AbsoluteMaximum());
+            }
+            bool done = it > 1;
+            for (int k = 0; k < p; k++)
+                if (Math.Abs(theta[k] - previous[k]) > tolerance * Math.Abs(theta[k])) done = false;
+            Array.Copy(theta, previous, q);
+            if (done || q == n) { converged = true; break; }
+        }
+
+        var modes = new List<BucklingMode>();
+        for (int k = 0; k < q && modes.Count < p; k++)
+        {
+            if (!(theta[k] > 0)) break;
+            var free = X.Column(k).ToArray();
+            var shape = new double[3 * model.NodeCount];
+            model.Dofs.Scatter(free, shape);
+            double peak = shape.MaxBy(Math.Abs);
+            if (peak != 0) for (int i = 0; i < shape.Length; i++) shape[i] /= peak;
+            double align = Math.Abs(EquilibriumSystem.Dot(free, sys.ReferenceFree)) /
+                           Math.Sqrt(EquilibriumSystem.Dot(free, free) * sys.ReferenceNormSquared);
+            modes.Add(new BucklingMode(modes.Count + 1, 1.0 / theta[k], shape, align));
+        }
+        return new LinearBucklingResult(modes, Math.Min(it, maxIterations), converged);
+    }
+}
