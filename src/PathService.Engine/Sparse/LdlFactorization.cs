@@ -85,6 +85,12 @@ public sealed class LdlFactorization
     /// </summary>
     public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11)
     {
+        // Locals let the JIT keep the arrays in registers in the loops below.
+        int[] cp = this.cp, ci = this.ci, cs = this.cs, parent = this.parent, perm = this.perm;
+        int[] Lp = this.Lp, Li = this.Li, Lnz = this.Lnz, flag = this.flag, reach = this.reach;
+        double[] Lx = this.Lx, D = this.D, y = this.y;
+        int n = this.n;
+
         if (values.Length != cs.Length)
             throw new ArgumentException($"Expected {cs.Length} values aligned with the pattern, got {values.Length}.", nameof(values));
 
@@ -162,6 +168,7 @@ public sealed class LdlFactorization
     }
 
     /// <summary>Overwrites b with A^{-1} b (original ordering).</summary>
+    /// <exception cref="InvalidOperationException">Factorize was not called or reported ZeroPivot.</exception>
     public void Solve(Span<double> rhsInPlace)
     {
         if (!factorized || Status == LdlStatus.ZeroPivot)
