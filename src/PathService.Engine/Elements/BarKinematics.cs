@@ -27,16 +27,14 @@ public static class BarKinematics
         int i, int j, double length0, double modulus, double initialStress)
     {
         int a = 3 * i, b = 3 * j;
-        double dx = coordinates[b] - coordinates[a] + displacement[b] - displacement[a];
-        double dy = coordinates[b + 1] - coordinates[a + 1] + displacement[b + 1] - displacement[a + 1];
-        double dz = coordinates[b + 2] - coordinates[a + 2] + displacement[b + 2] - displacement[a + 2];
-        double strain = GreenLagrangeStrain(dx * dx + dy * dy + dz * dz, length0);
-        return new BarState(dx, dy, dz, strain, modulus * strain + initialStress);
+        double X = coordinates[b] - coordinates[a], Y = coordinates[b + 1] - coordinates[a + 1], Z = coordinates[b + 2] - coordinates[a + 2];
+        double ux = displacement[b] - displacement[a], uy = displacement[b + 1] - displacement[a + 1], uz = displacement[b + 2] - displacement[a + 2];
+        // ε = (x·x − X·X)/(2X·X) evaluated as (2X·Δu + Δu·Δu)/(2X·X): exactly zero at Δu = 0 and free of the
+        // cancellation of two nearly equal squared lengths for small strains.
+        double l2 = X * X + Y * Y + Z * Z;
+        double strain = (2 * (X * ux + Y * uy + Z * uz) + ux * ux + uy * uy + uz * uz) / (2 * l2);
+        return new BarState(X + ux, Y + uy, Z + uz, strain, modulus * strain + initialStress);
     }
-
-    /// <summary>ε = (ℓ² − L0²)/(2 L0²), written as (ℓ−L0)(ℓ+L0)/(2L0²)-free form that keeps precision for tiny strains.</summary>
-    public static double GreenLagrangeStrain(double currentLengthSquared, double length0)
-        => (currentLengthSquared - length0 * length0) / (2.0 * length0 * length0);
 
     /// <summary>
     /// Axial force in the deformed bar, N = A0 S ℓ / L0: the magnitude of the nodal forces along the current chord
