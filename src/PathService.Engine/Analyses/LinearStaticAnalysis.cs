@@ -56,12 +56,12 @@ public static class LinearStaticAnalysis
     internal static void LinearInternalForce(StructuralModel m, ReadOnlySpan<double> u, Span<double> f, bool includePrestress, Span<double> barForces = default)
     {
         f.Clear();
+        Span<double> e = stackalloc double[3];
+        Span<double> du = stackalloc double[3];
         for (int b = 0; b < m.BarCount; b++)
         {
             int i = 3 * m.BarStart[b], j = 3 * m.BarEnd[b];
             double L0 = m.BarLength[b], A = m.BarArea[b], s0 = includePrestress ? m.BarInitialStress[b] : 0.0;
-            Span<double> e = stackalloc double[3];
-            Span<double> du = stackalloc double[3];
             double ext = 0;
             for (int k = 0; k < 3; k++)
             {

@@ -223,13 +223,18 @@ public sealed class PathTracer
     }
 
     /// <summary>
-    /// Load control only: factorises the tangent at the mid-state of a converged step. A different negative-pivot count
-    /// there than at the step's start means the step passed over unstable states, i.e. it snapped to a remote branch.
+    /// Load control only: counts the negative pivots of the tangent at the end and at the mid-state of a converged step.
+    /// A mid-state count that matches neither end means the step passed over unstable states between two stable
+    /// stretches, i.e. it snapped to a remote branch (passing a bifurcation changes the count once and is not flagged).
     /// </summary>
     private static bool JumpedOverUnstablePart(EquilibriumSystem sys, double[] start, double[] end, int startInertia, double[] midpoint)
     {
+        if (sys.Refactor(end) == LdlStatus.ZeroPivot) return false;
+        int endInertia = sys.Factor.NegativePivotCount;
         for (int i = 0; i < midpoint.Length; i++) midpoint[i] = 0.5 * (start[i] + end[i]);
-        return sys.Refactor(midpoint) != LdlStatus.ZeroPivot && sys.Factor.NegativePivotCount != startInertia;
+        if (sys.Refactor(midpoint) == LdlStatus.ZeroPivot) return false;
+        int mid = sys.Factor.NegativePivotCount;
+        return mid != startInertia && mid != endInertia;
     }
 
     private bool StopRuleMet(double[] u, double lambda, int targetDof) =>
