@@ -36,7 +36,7 @@ public static class LinearBucklingAnalysis
         var sRef = new double[model.BarCount];
         for (int b = 0; b < model.BarCount; b++) sRef[b] = refResult.BarForces[b] / model.BarArea[b];
         var kA = (double[])sys.Values.Clone();
-        if (model.HasConstantLoad || model.HasPrescribedDisplacements)
+        if (model.HasConstantLoad || model.HasPrescribedDisplacements || model.HasInitialStress)
         {
             var constResult = LinearStaticAnalysis.Solve(model, sys, 0.0, includeConstant: true, withPrescribed: true);
             var dS = new double[model.BarCount];

@@ -122,6 +122,7 @@ public sealed class StructuralModel
 
     public bool HasPrescribedDisplacements => PrescribedDisplacement.Any(v => v != 0);
     public bool HasConstantLoad => ConstantLoad.Any(v => v != 0);
+    public bool HasInitialStress => BarInitialStress.Any(v => v != 0);
 
     private double[] LoadVector(IReadOnlyList<NodalLoad> loads)
     {

@@ -1,0 +1,173 @@
+#!/usr/bin/env python3
+"""Writes the demo models of examples/ as TracePathRequest messages in the Protobuf JSON mapping.
+
+The scenarios are invented for the demos: dimensions, sections and loads are plausible for steel, in kN and m,
+but they describe no real structure. Run: python3 examples/generate.py
+"""
+import json
+import math
+import os
+
+E_STEEL = 2.1e8  # kN/m2
+HERE = os.path.dirname(os.path.abspath(__file__))
+
+
+def pin(node, dirs="XYZ"):
+    return [{"node": node, "direction": f"DIRECTION_{d}"} for d in dirs]
+
+
+def write(name, request):
+    with open(os.path.join(HERE, name), "w") as f:
+        json.dump(request, f, indent=1)
+        f.write("\n")
+
+
+def market_hall_dome():
+    """A shallow single-layer lattice dome over an invented market hall: 28 m across, 1.75 m rise, 3 rings of 10
+    nodes on a paraboloid, alternate rings turned by half a bay, outer ring pinned. A lantern of 25 kN hangs from
+    the crown."""
+    radius, rise, rings, per = 14.0, 1.75, 3, 10
+    nodes, bars, supports, loads = [{"id": "crown", "x": 0, "y": 0, "z": rise}], [], [], []
+    area = 3.2e-3  # m2, a 168.3 x 6.3 circular hollow section
+
+    def nid(k, j):
+        return f"R{k}-{j % per:02d}"
+
+    for k in range(1, rings + 1):
+        r = radius * k / rings
+        z = rise * (1 - (r / radius) ** 2)
+        turn = (k % 2) * math.pi / per
+        for j in range(per):
+            a = 2 * math.pi * j / per + turn
+            nodes.append({"id": nid(k, j), "x": round(r * math.cos(a), 6), "y": round(r * math.sin(a), 6), "z": round(z, 6)})
+            if k == rings:
+                supports += pin(nid(k, j))
+    loads.append({"node": "crown", "fz": -25.0})
+    n = 0
+
+    def bar(a, b):
+        nonlocal n
+        n += 1
+        bars.append({"id": f"M{n:03d}", "startNode": a, "endNode": b, "elasticModulus": E_STEEL, "area": area})
+
+    for j in range(per):
+        bar("crown", nid(1, j))
+    for k in range(1, rings):
+        shift = 0 if k % 2 == 1 else -1
+        for j in range(per):
+            bar(nid(k, j), nid(k, j + 1))
+            bar(nid(k, j), nid(k + 1, (j + shift) % per))
+            bar(nid(k, j), nid(k + 1, (j + shift + 1) % per))
+    return {
+        "model": {"name": "market-hall dome", "units": {"force": "kN", "length": "m"},
+                  "nodes": nodes, "bars": bars, "supports": supports},
+        "loadCase": {"reference": loads},
+        "controls": {"method": "CONTINUATION_METHOD_ARC_LENGTH", "initialLoadIncrement": 0.5, "maxPoints": 80,
+                     "monitored": [{"node": "crown", "direction": "DIRECTION_Z"}, {"node": "R1-00", "direction": "DIRECTION_Z"}],
+                     "fullStateEvery": 10},
+    }
+
+
+def roof_truss_on_spring_bearings():
+    """A shallow trussed roof of an invented sports hall: 24 m span, 0.8 m rise of the bottom chord, 0.3 m deep, 8 panels, on
+    elastomeric bearings modelled as horizontal springs at both ends (one end also vertically pinned, the other on a
+    vertical spring). Plane structure: out-of-plane motion restrained. Purlin loads at the top-chord nodes."""
+    span, panels, depth, rise = 24.0, 8, 0.3, 0.8
+    nodes, bars, supports, springs, loads = [], [], [], [], []
+    for i in range(panels + 1):
+        x = span * i / panels
+        arch = rise * (1 - (2 * x / span - 1) ** 2)
+        nodes.append({"id": f"B{i}", "x": x, "y": round(arch, 6), "z": 0})
+        nodes.append({"id": f"T{i}", "x": x, "y": round(arch + depth, 6), "z": 0})
+        supports += [{"node": f"B{i}", "direction": "DIRECTION_Z"}, {"node": f"T{i}", "direction": "DIRECTION_Z"}]
+        if 0 < i < panels:
+            loads.append({"node": f"T{i}", "fy": -10.0})
+    n = 0
+
+    def bar(a, b, area):
+        nonlocal n
+        n += 1
+        bars.append({"id": f"E{n:02d}", "startNode": a, "endNode": b, "elasticModulus": E_STEEL, "area": area})
+
+    for i in range(panels):
+        bar(f"B{i}", f"B{i+1}", 2.8e-3)
+        bar(f"T{i}", f"T{i+1}", 2.8e-3)
+        bar(f"B{i}", f"T{i+1}" if i % 2 == 0 else f"T{i}", 1.2e-3)
+        if i % 2 == 1:
+            bar(f"B{i+1}", f"T{i}", 1.2e-3)
+    for i in range(panels + 1):
+        bar(f"B{i}", f"T{i}", 1.2e-3)
+    supports += [{"node": "B0", "direction": "DIRECTION_Y"}]
+    springs += [
+        {"id": "bearing-west-h", "node": "B0", "direction": "DIRECTION_X", "stiffness": 1.0e5},
+        {"id": "bearing-east-h", "node": f"B{panels}", "direction": "DIRECTION_X", "stiffness": 1.0e5},
+        {"id": "bearing-east-v", "node": f"B{panels}", "direction": "DIRECTION_Y", "stiffness": 2.0e5},
+    ]
+    return {
+        "model": {"name": "roof truss on spring bearings", "units": {"force": "kN", "length": "m"},
+                  "nodes": nodes, "bars": bars, "groundSprings": springs, "supports": supports},
+        "loadCase": {"reference": loads},
+        "controls": {"method": "CONTINUATION_METHOD_ARC_LENGTH", "initialLoadIncrement": 0.5, "maxPoints": 60,
+                     "monitored": [{"node": f"T{panels // 2}", "direction": "DIRECTION_Y"},
+                                   {"node": f"B{panels}", "direction": "DIRECTION_X"}]},
+    }
+
+
+def guyed_mast():
+    """A slender triangular lattice mast of an invented radio relay site: 36 m high, 0.9 m leg spacing, 12 bays,
+    guyed at 12 m, 24 m and 36 m to three anchors 18 m out, guys pretensioned. Antenna weight on top, scaled by λ."""
+    height, bays, side = 36.0, 12, 0.9
+    r = side / math.sqrt(3)
+    nodes, bars, supports, loads = [], [], [], []
+    legs = ["a", "b", "c"]
+    for k in range(bays + 1):
+        z = height * k / bays
+        for i, leg in enumerate(legs):
+            ang = 2 * math.pi * i / 3 + math.pi / 2
+            nodes.append({"id": f"{leg}{k}", "x": round(r * math.cos(ang), 6), "y": round(r * math.sin(ang), 6), "z": z})
+    for leg in legs:
+        supports += pin(f"{leg}0")
+    n = 0
+
+    def bar(a, b, area, prestress=0.0):
+        nonlocal n
+        n += 1
+        item = {"id": f"S{n:03d}", "startNode": a, "endNode": b, "elasticModulus": E_STEEL, "area": area}
+        if prestress:
+            item["initialStress"] = prestress
+        bars.append(item)
+
+    for k in range(bays):
+        for i, leg in enumerate(legs):
+            nxt = legs[(i + 1) % 3]
+            bar(f"{leg}{k}", f"{leg}{k+1}", 1.4e-3)          # legs
+            bar(f"{leg}{k+1}", f"{nxt}{k+1}", 3.0e-4)        # horizontals
+            bar(f"{leg}{k}", f"{nxt}{k+1}", 3.0e-4)          # diagonals, crossed in every face so the
+            bar(f"{nxt}{k}", f"{leg}{k+1}", 3.0e-4)          # mast has no twist-sway coupling
+    for i, leg in enumerate(legs):
+        nxt = legs[(i + 1) % 3]
+        bar(f"{leg}0", f"{nxt}0", 3.0e-4)
+    for level in (4, 8, 12):
+        for i, leg in enumerate(legs):
+            ang = 2 * math.pi * i / 3 + math.pi / 2
+            anchor = f"anchor-{leg}{level}"
+            nodes.append({"id": anchor, "x": round(18 * math.cos(ang), 6), "y": round(18 * math.sin(ang), 6), "z": 0})
+            supports += pin(anchor)
+            bar(anchor, f"{leg}{level}", 1.5e-4, prestress=1.0e5)  # guys, 100 MPa pretension
+    for leg in legs:
+        loads.append({"node": f"{leg}{bays}", "fz": -20.0})
+    return {
+        "model": {"name": "guyed relay mast", "units": {"force": "kN", "length": "m"},
+                  "nodes": nodes, "bars": bars, "supports": supports},
+        "loadCase": {"reference": loads},
+        "controls": {"method": "CONTINUATION_METHOD_ARC_LENGTH", "initialLoadIncrement": 1.0, "maxPoints": 60,
+                     "monitored": [{"node": f"a{bays}", "direction": "DIRECTION_Z"}, {"node": "a6", "direction": "DIRECTION_X"}],
+                     "stopAtFirstCriticalPoint": False},
+    }
+
+
+if __name__ == "__main__":
+    write("market-hall-dome.json", market_hall_dome())
+    write("roof-truss-spring-bearings.json", roof_truss_on_spring_bearings())
+    write("guyed-mast.json", guyed_mast())
+    print("wrote market-hall-dome.json, roof-truss-spring-bearings.json, guyed-mast.json")
