@@ -16,7 +16,11 @@ public sealed record StructureState(double[] Displacements, double[] BarForces, 
 /// <param name="NegativePivots">Number of negative pivots of LDLᵀ of the tangent at this point.</param>
 public sealed record PathPoint(
     int Index, double LoadFactor, double ArcLength, double[] Monitored, int Iterations, double ResidualNorm,
-    int NegativePivots, Stability Stability, double Increment, StructureState? State) : PathEvent;
+    int NegativePivots, Stability Stability, double Increment, StructureState? State) : PathEvent
+{
+    /// <summary>0 for the primary path, 1, 2, ... for secondary branches entered at bifurcations.</summary>
+    public int Branch { get; init; }
+}
 
 public enum CutReason
 {
@@ -46,7 +50,17 @@ public sealed record CriticalPoint(
     int Sequence, CriticalPointKind Kind, double LoadFactor, double LoadFactorBefore, double LoadFactorAfter,
     int PointBefore, int PointAfter, int NegativePivotsBefore, int NegativePivotsAfter,
     double LowestEigenvalue, double LoadAlignment, double[] Monitored, double[] Mode, bool Located, double Tolerance,
-    StructureState? State) : PathEvent;
+    StructureState? State) : PathEvent
+{
+    /// <summary>The branch on which the critical point was found.</summary>
+    public int Branch { get; init; }
+}
+
+/// <summary>A secondary branch entered at a bifurcation by a perturbation along the critical mode.</summary>
+public sealed record BranchStarted(int Branch, int FromBranch, int CriticalPointSequence, double LoadFactor) : PathEvent;
+
+/// <summary>The end of a secondary branch; the trace then resumes the branch it came from.</summary>
+public sealed record BranchEnded(int Branch, StopReason Reason, string Message) : PathEvent;
 
 public enum StopReason
 {
@@ -58,6 +72,10 @@ public enum StopReason
     WallTimeExceeded,
     /// <summary>A step failed after the permitted number of cuts (or the increment fell below its minimum).</summary>
     Diverged,
+    /// <summary>A secondary branch used up its share of points (branch ends only).</summary>
+    BranchPointsReached,
+    /// <summary>No equilibrium point off the primary path could be found near the bifurcation (branch ends only).</summary>
+    BranchNotFound,
     /// <summary>The constant load (or prescribed displacements) could not be brought to equilibrium.</summary>
     InitialStateFailed,
 }
@@ -68,6 +86,9 @@ public sealed record PathSummary(
     int Iterations, int Cuts, int Factorizations, TimeSpan FactorizationTime, TimeSpan WallTime,
     IReadOnlyList<CriticalPoint> CriticalPoints) : PathEvent
 {
+    /// <summary>Number of branches followed (1 without branch switching).</summary>
+    public int Branches { get; init; } = 1;
+
     /// <summary>Whether the trace ended by one of the caller's own stopping rules (not by failure or cancellation).</summary>
     public bool Completed => Reason is StopReason.TargetLoadFactorReached or StopReason.TargetDisplacementReached
         or StopReason.PointLimitReached or StopReason.CriticalPointReached;

@@ -58,6 +58,15 @@ public sealed record SolverControls
     /// <summary>Relative pivot size below which the tangent counts as singular (mechanism at the start).</summary>
     public double TinyPivotRatio { get; init; } = 1e-11;
 
+    /// <summary>
+    /// Branch switching: at each bifurcation on the primary path, follow the secondary branch for
+    /// <see cref="SecondaryBranchPoints"/> points (arc-length only), then resume the primary path.
+    /// </summary>
+    public bool SwitchBranches { get; init; }
+    public int SecondaryBranchPoints { get; init; } = 20;
+    /// <summary>Size of the first step onto the secondary branch, as a fraction of the current arc length.</summary>
+    public double BranchPerturbation { get; init; } = 1.0;
+
     /// <summary>Full nodal and member state: every N-th point (0 = never), at critical points, at the last point.</summary>
     public int FullStateEvery { get; init; }
     public bool FullStateAtCriticalPoints { get; init; } = true;
@@ -101,6 +110,9 @@ public sealed record SolverControls
         if (TargetDisplacement is not null && TargetDisplacementDof is null && ControlDof is null) Err("target_displacement_dof", "a target displacement needs the DOF it applies to");
         if (!double.IsFinite(CriticalPointTolerance) || CriticalPointTolerance <= 0 || CriticalPointTolerance >= 0.1) Err("critical_point_tolerance", "critical_point_tolerance must lie in (0, 0.1)");
         if (!double.IsFinite(BifurcationThreshold) || BifurcationThreshold <= 0 || BifurcationThreshold >= 1) Err("bifurcation_threshold", "bifurcation_threshold must lie in (0, 1)");
+        if (SwitchBranches && Method != ContinuationMethod.ArcLength) Err("switch_branches", "branch switching needs the arc-length method");
+        if (SecondaryBranchPoints < 1) Err("secondary_branch_points", $"secondary_branch_points is {SecondaryBranchPoints}; it must be at least 1");
+        if (!double.IsFinite(BranchPerturbation) || BranchPerturbation <= 0 || BranchPerturbation > 100) Err("branch_perturbation", "branch_perturbation must lie in (0, 100]");
         if (FullStateEvery < 0) Err("full_state_every", "full_state_every must be zero or positive");
         if (WallTimeLimit is { } w && w <= TimeSpan.Zero) Err("wall_time_limit", "wall_time_limit must be positive");
         return f;

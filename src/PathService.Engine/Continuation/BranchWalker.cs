@@ -1,0 +1,270 @@
+using PathService.Engine.Sparse;
+using PathService.Engine.Stability;
+
+namespace PathService.Engine.Continuation;
+
+/// <summary>
+/// Steps along one branch of the path: predictor, corrector, cuts, the converged point, critical-point location and,
+/// on the primary path, the switch to secondary branches at bifurcations. Ends by setting <see cref="EndReason"/>.
+/// </summary>
+internal sealed class BranchWalker(TraceSession s)
+{
+    private readonly double[] _dU = new double[s.Sys.FreeCount];
+    private readonly double[] _previous = new double[3 * s.Model.NodeCount];
+    private readonly double[] _midpoint = new double[3 * s.Model.NodeCount];
+    private double[]? _modeGuess;
+    private double _minIncrement, _maxIncrement;
+
+    public (StopReason Reason, string Message)? EndReason { get; private set; }
+
+    public void SetIncrementBounds(double first)
+    {
+        _minIncrement = s.Controls.MinIncrementRatio * Math.Abs(first);
+        _maxIncrement = s.Controls.MaxIncrementRatio * Math.Abs(first);
+    }
+
+    /// <summary>Factorises the tangent at the branch's point: its inertia and the predictor K⁻¹F_ref.</summary>
+    public void RefreshTangent(BranchState b)
+    {
+        if (s.Sys.Refactor(b.U) == LdlStatus.ZeroPivot) return;
+        b.Inertia = s.Sys.Factor.NegativePivotCount;
+        s.Sys.Factor.Solve(s.Sys.ReferenceFree, b.Predictor);
+    }
+
+    public IEnumerable<PathEvent> Walk(BranchState b, int pointBudget)
+    {
+        var c = s.Controls;
+        var sys = s.Sys;
+        int n = sys.FreeCount;
+        while (true)
+        {
+            if (s.GlobalStop() is { } stop) { EndReason = stop; yield break; }
+            if (b.PointsOnBranch >= pointBudget) { EndReason = (StopReason.BranchPointsReached, $"branch {b.Id} reached its {pointBudget} points"); yield break; }
+            double increment = b.Increment;
+            if (c.Method == ContinuationMethod.LoadControl && c.TargetLoadFactor is { } tl && tl > b.Lambda)
+                increment = Math.Min(increment, tl - b.Lambda);
+            if (c.Method == ContinuationMethod.DisplacementControl && c.TargetDisplacement is { } tdv && s.TargetDof >= 0)
+            {
+                double remaining = tdv - b.U[s.TargetDof];
+                if (Math.Sign(remaining) == Math.Sign(increment) && Math.Abs(increment) > Math.Abs(remaining)) increment = remaining;
+            }
+            s.Steps++;
+            Array.Copy(b.U, _previous, _previous.Length);
+            double previousLambda = b.Lambda;
+            int attempt = 0;
+            double lambda = b.Lambda, dLam = 0;
+            CorrectorOutcome outcome;
+            while (true)
+            {
+                // Predictor along the tangent of the last converged point: Δu = Δλ · K⁻¹F_ref.
+                double dl = PredictLoadIncrement(b, increment);
+                Array.Copy(_previous, b.U, b.U.Length);
+                for (int e = 0; e < n; e++) _dU[e] = dl * b.Predictor[e];
+                sys.AddFree(b.U, _dU);
+                lambda = previousLambda + dl;
+                dLam = dl;
+                var constraint = c.Method switch
+                {
+                    ContinuationMethod.LoadControl => new StepConstraint(ConstraintKind.Load),
+                    ContinuationMethod.DisplacementControl => new StepConstraint(ConstraintKind.Displacement, ControlEquation: s.ControlEquation),
+                    _ => new StepConstraint(ConstraintKind.ArcLength, ArcLength: increment, PsiSquared: s.PsiSquared),
+                };
+                outcome = s.Corrector.Correct(b.U, ref lambda, _dU, ref dLam, constraint, c.MaxIterations, c.ResidualTolerance, s.Ct);
+                s.Iterations += s.Corrector.Iterations;
+                var reason = s.Corrector.Reason;
+                string detail = s.Corrector.Detail;
+                if (outcome == CorrectorOutcome.Converged && c.Method == ContinuationMethod.LoadControl && JumpedOverUnstablePart(b.Inertia, b.U))
+                {
+                    // Newton under load control can land on a remote branch after a snap-through, silently skipping
+                    // the unstable part of the path and its critical points; reject such a step.
+                    outcome = CorrectorOutcome.Cut;
+                    reason = CutReason.PathJump;
+                    detail = "the tangent half-way through the step has a different number of negative pivots: the step jumped over an unstable part of the path (snap-through)";
+                }
+                if (outcome != CorrectorOutcome.Cut) break;
+                s.Cuts++;
+                attempt++;
+                double rejected = increment;
+                increment *= 0.5;
+                bool giveUp = attempt > c.MaxCutsPerStep || Math.Abs(increment) < _minIncrement;
+                yield return new StepCut(s.Steps, attempt, reason, rejected, giveUp ? 0 : increment, s.Corrector.Iterations, s.Corrector.ResidualNorm, detail);
+                if (giveUp)
+                {
+                    Array.Copy(_previous, b.U, b.U.Length);
+                    string hint = c.Method == ContinuationMethod.LoadControl
+                        ? " Load control cannot pass a limit point; use arc-length continuation to follow the path beyond it."
+                        : "";
+                    EndReason = (StopReason.Diverged, $"step {s.Steps} did not converge after {attempt} cuts ({reason}: {detail}).{hint}");
+                    yield break;
+                }
+            }
+            if (outcome == CorrectorOutcome.Cancelled)
+            {
+                Array.Copy(_previous, b.U, b.U.Length);
+                EndReason = (StopReason.Cancelled, "cancelled by the caller");
+                yield break;
+            }
+
+            // Converged: one factorisation at the new point serves its inertia and the next predictor.
+            int pointIterations = s.Corrector.Iterations;
+            double residual = s.Corrector.ResidualNorm;
+            b.Lambda = lambda;
+            b.LastLoadStep = dLam;
+            Array.Copy(_dU, b.LastStep, n);
+            b.HasPreviousStep = true;
+            int inertiaBefore = b.Inertia;
+            RefreshTangent(b);
+            b.ArcLength += Math.Sqrt(EquilibriumSystem.Dot(_dU, _dU) + s.PsiSquared * dLam * dLam * sys.ReferenceNormSquared);
+            b.Increment = increment;
+            s.MaxLoadFactor = Math.Max(s.MaxLoadFactor, lambda);
+            s.FinalLoadFactor = lambda;
+            bool crossed = b.Inertia != inertiaBefore && c.DetectCriticalPoints;
+            bool atEnd = s.StopRuleMet(b.U, lambda) || s.Points + 1 >= c.MaxPoints;
+            bool full = (c.FullStateEvery > 0 && s.Points % c.FullStateEvery == 0) || (atEnd && c.FullStateAtEnd);
+            int before = b.LastPointIndex;
+            yield return MakePoint(b, pointIterations, residual, increment, full);
+
+            if (crossed)
+            {
+                var cp = LocateCritical(_previous, previousLambda, inertiaBefore, b, before) with { Sequence = s.Criticals.Count + 1, Branch = b.Id };
+                s.Criticals.Add(cp);
+                yield return cp;
+                // Location used the factorisation; restore the one at the current point for the next predictor.
+                RefreshTangent(b);
+                if (c.StopAtFirstCriticalPoint)
+                {
+                    EndReason = (StopReason.CriticalPointReached, $"stopped at the first critical point ({cp.Kind} at λ = {cp.LoadFactor:G8})");
+                    yield break;
+                }
+                if (c.SwitchBranches && b.Id == 0 && cp.Kind == CriticalPointKind.Bifurcation && cp.Located)
+                {
+                    foreach (var e in FollowSecondary(b, cp)) yield return e;
+                    if (EndReason is { } end && end.Reason is StopReason.Cancelled or StopReason.WallTimeExceeded or StopReason.PointLimitReached) yield break;
+                    EndReason = null;
+                    RefreshTangent(b);
+                }
+            }
+
+            if (c.TargetLoadFactor is { } target && lambda >= target)
+            { EndReason = (StopReason.TargetLoadFactorReached, $"reached the target load factor {target:G6} (λ = {lambda:G8})"); yield break; }
+            if (s.TargetDisplacementMet(b.U))
+            { EndReason = (StopReason.TargetDisplacementReached, $"reached the target displacement {c.TargetDisplacement:G6}"); yield break; }
+
+            // Adaptive increment: scale by (desired / used iterations)^½, at most halving or doubling (Crisfield 1981).
+            double factor = Math.Sqrt((double)c.DesiredIterations / Math.Max(1, pointIterations));
+            double next = b.Increment * Math.Clamp(factor, 0.5, 2.0);
+            b.Increment = Math.CopySign(Math.Clamp(Math.Abs(next), _minIncrement, _maxIncrement), next);
+        }
+    }
+
+    /// <summary>
+    /// Enters the secondary branch at a located bifurcation: a step of length Δs along the critical mode φ from the
+    /// critical state, corrected on the hyperplane (u − u_c)·φ = Δs (a perturbation along the near-null mode; e.g.
+    /// W. Wagner and P. Wriggers, "A simple method for the calculation of postcritical branches", Eng. Comput. 5, 1988),
+    /// then arc-length continuation on that branch.
+    /// </summary>
+    private IEnumerable<PathEvent> FollowSecondary(BranchState primary, CriticalPoint cp)
+    {
+        var sys = s.Sys;
+        int n = sys.FreeCount;
+        int id = s.Branches++;
+        yield return new BranchStarted(id, primary.Id, cp.Sequence, cp.LoadFactor);
+        var phi = new double[n];
+        sys.Model.Dofs.Gather(cp.Mode, phi);
+        double norm = Math.Sqrt(EquilibriumSystem.Dot(phi, phi));
+        for (int e = 0; e < n; e++) phi[e] /= norm;
+        double ds = Math.Abs(primary.Increment) * s.Controls.BranchPerturbation;
+        var uc = cp.State?.Displacements ?? throw new InvalidOperationException("the critical state is needed for branch switching");
+
+        var u = (double[])uc.Clone();
+        for (int e = 0; e < n; e++) _dU[e] = ds * phi[e];
+        sys.AddFree(u, _dU);
+        double lambda = cp.LoadFactor, dLam = 0;
+        var constraint = new StepConstraint(ConstraintKind.Hyperplane, Normal: phi, NormalLoad: 0, LoadWeight: 0);
+        var outcome = s.Corrector.Correct(u, ref lambda, _dU, ref dLam, constraint, s.Controls.MaxIterations, s.Controls.ResidualTolerance, s.Ct);
+        s.Iterations += s.Corrector.Iterations;
+        if (outcome != CorrectorOutcome.Converged)
+        {
+            EndReason = (StopReason.BranchNotFound, $"no equilibrium found on the secondary branch at λ = {cp.LoadFactor:G8}: {s.Corrector.Detail}");
+            yield return new BranchEnded(id, EndReason.Value.Reason, EndReason.Value.Message);
+            yield break;
+        }
+        var branch = new BranchState(id, u, lambda, 0, ds, n) { HasPreviousStep = true, LastLoadStep = dLam };
+        Array.Copy(_dU, branch.LastStep, n);
+        RefreshTangent(branch);
+        s.Steps++;
+        s.MaxLoadFactor = Math.Max(s.MaxLoadFactor, lambda);
+        s.FinalLoadFactor = lambda;
+        branch.ArcLength = ds;
+        yield return MakePoint(branch, s.Corrector.Iterations, s.Corrector.ResidualNorm, ds, false);
+        var inner = new BranchWalker(s);
+        inner._minIncrement = _minIncrement;
+        inner._maxIncrement = _maxIncrement;
+        foreach (var e in inner.Walk(branch, s.Controls.SecondaryBranchPoints)) yield return e;
+        EndReason = inner.EndReason;
+        var end = EndReason ?? (StopReason.BranchPointsReached, "branch ended");
+        yield return new BranchEnded(id, end.Reason, end.Message);
+    }
+
+    private PathPoint MakePoint(BranchState b, int iterations, double residual, double increment, bool full)
+    {
+        int index = s.Points++;
+        b.LastPointIndex = index;
+        b.PointsOnBranch++;
+        return new PathPoint(index, b.Lambda, b.ArcLength, s.Monitored.Select(d => b.U[d]).ToArray(), iterations, residual, b.Inertia,
+            b.Inertia == 0 ? Stability.Stable : Stability.Unstable, Math.Abs(increment), full ? s.Sys.Snapshot(b.U, b.Lambda) : null) { Branch = b.Id };
+    }
+
+    /// <summary>Load-factor part of the predictor for the chosen method.</summary>
+    private double PredictLoadIncrement(BranchState b, double increment)
+    {
+        var sys = s.Sys;
+        switch (s.Controls.Method)
+        {
+            case ContinuationMethod.LoadControl: return increment;
+            case ContinuationMethod.DisplacementControl: return increment / b.Predictor[s.ControlEquation];
+            default:
+                double dl = increment / Math.Sqrt(EquilibriumSystem.Dot(b.Predictor, b.Predictor) + s.PsiSquared * sys.ReferenceNormSquared);
+                // Keep going the same way along the path: the sign that makes the predictor point along the previous
+                // increment (positive "work" of the step; Feng, Perić and Owen 1996), which passes limit points and snap-backs.
+                if (b.HasPreviousStep && EquilibriumSystem.Dot(b.LastStep, b.Predictor) + s.PsiSquared * b.LastLoadStep * sys.ReferenceNormSquared < 0) dl = -dl;
+                return dl;
+        }
+    }
+
+    /// <summary>
+    /// Load control only: counts the negative pivots of the tangent at the end and at the mid-state of a converged step.
+    /// A mid-state count that matches neither end means the step passed over unstable states between two stable
+    /// stretches, i.e. it snapped to a remote branch (passing a bifurcation changes the count once and is not flagged).
+    /// </summary>
+    private bool JumpedOverUnstablePart(int startInertia, double[] end)
+    {
+        var sys = s.Sys;
+        if (sys.Refactor(end) == LdlStatus.ZeroPivot) return false;
+        int endInertia = sys.Factor.NegativePivotCount;
+        for (int i = 0; i < _midpoint.Length; i++) _midpoint[i] = 0.5 * (_previous[i] + end[i]);
+        if (sys.Refactor(_midpoint) == LdlStatus.ZeroPivot) return false;
+        int mid = sys.Factor.NegativePivotCount;
+        return mid != startInertia && mid != endInertia;
+    }
+
+    private CriticalPoint LocateCritical(double[] ua, double la, int na, BranchState b, int before)
+    {
+        var c = s.Controls;
+        var sys = s.Sys;
+        var locator = new CriticalPointLocator(sys, s.Corrector, c);
+        var r = locator.Locate(ua, la, na, b.U, b.Lambda, b.Inertia, _modeGuess, s.Ct);
+        _modeGuess = r.ModeFree;
+        double alignment = Math.Abs(EquilibriumSystem.Dot(r.ModeFree, sys.ReferenceFree)) /
+                           Math.Max(1e-300, Math.Sqrt(EquilibriumSystem.Dot(r.ModeFree, r.ModeFree) * sys.ReferenceNormSquared));
+        var kind = alignment >= c.BifurcationThreshold ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation;
+        var modeFull = new double[3 * s.Model.NodeCount];
+        sys.Model.Dofs.Scatter(r.ModeFree, modeFull);
+        double peak = modeFull.MaxBy(Math.Abs);
+        if (peak != 0) for (int i = 0; i < modeFull.Length; i++) modeFull[i] /= peak;
+        bool keepState = c.FullStateAtCriticalPoints || c.SwitchBranches;
+        return new CriticalPoint(0, kind, r.LoadFactor, la, b.Lambda, before, b.LastPointIndex, na, b.Inertia, r.Eigenvalue, alignment,
+            s.Monitored.Select(d => r.Displacement[d]).ToArray(), modeFull, r.Located, r.Tolerance,
+            keepState ? sys.Snapshot(r.Displacement, r.LoadFactor) : null);
+    }
+}

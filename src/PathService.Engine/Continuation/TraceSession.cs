@@ -1,0 +1,66 @@
+using System.Diagnostics;
+using PathService.Engine.Model;
+
+namespace PathService.Engine.Continuation;
+
+/// <summary>What one trace shares across its branches: the system, the controls, the counters and the clock.</summary>
+internal sealed class TraceSession(StructuralModel model, SolverControls controls, EquilibriumSystem sys, CancellationToken ct)
+{
+    public StructuralModel Model { get; } = model;
+    public SolverControls Controls { get; } = controls;
+    public EquilibriumSystem Sys { get; } = sys;
+    public Corrector Corrector { get; } = new(sys);
+    public CancellationToken Ct { get; } = ct;
+    public Stopwatch Clock { get; } = Stopwatch.StartNew();
+    public int[] Monitored { get; } = controls.Monitored.Select(model.FullDof).ToArray();
+    public int TargetDof { get; } = controls.TargetDisplacementDof is { } td ? model.FullDof(td) : controls.ControlDof is { } cd ? model.FullDof(cd) : -1;
+    public int ControlEquation { get; } = controls.ControlDof is { } c ? model.Dofs.EquationOf[model.FullDof(c)] : -1;
+    public double PsiSquared { get; } = controls.Constraint == ArcLengthConstraint.Spherical ? 1.0 : 0.0;
+    public List<CriticalPoint> Criticals { get; } = [];
+    public int Points { get; set; }
+    public int Steps { get; set; }
+    public int Iterations { get; set; }
+    public int Cuts { get; set; }
+    public int Branches { get; set; } = 1;
+    public double MaxLoadFactor { get; set; }
+    public double FinalLoadFactor { get; set; }
+
+    public PathSummary Summary(StopReason reason, string message) => new(reason, message, MaxLoadFactor, FinalLoadFactor, Points,
+        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Clock.Elapsed, Criticals) { Branches = Branches };
+
+    /// <summary>A stop that ends the whole trace, whichever branch is being followed (null: go on).</summary>
+    public (StopReason Reason, string Message)? GlobalStop()
+    {
+        if (Points >= Controls.MaxPoints) return (StopReason.PointLimitReached, $"reached the requested {Controls.MaxPoints} points");
+        if (Ct.IsCancellationRequested) return (StopReason.Cancelled, "cancelled by the caller");
+        if (Controls.WallTimeLimit is { } wl && Clock.Elapsed > wl) return (StopReason.WallTimeExceeded, $"wall-time limit of {wl.TotalSeconds:G3} s exceeded");
+        return null;
+    }
+
+    public bool TargetDisplacementMet(double[] u)
+    {
+        if (Controls.TargetDisplacement is not { } target || TargetDof < 0) return false;
+        double v = u[TargetDof];
+        return target > 0 ? v >= target * (1 - 1e-12) : v <= target * (1 - 1e-12);
+    }
+
+    public bool StopRuleMet(double[] u, double lambda) =>
+        (Controls.TargetLoadFactor is { } t && lambda >= t) || TargetDisplacementMet(u);
+}
+
+/// <summary>The moving state of one branch of the path: the last converged point and the step that led to it.</summary>
+internal sealed class BranchState(int id, double[] u, double lambda, int inertia, double increment, int freeCount)
+{
+    public int Id { get; } = id;
+    public double[] U { get; } = u;
+    public double Lambda { get; set; } = lambda;
+    public int Inertia { get; set; } = inertia;
+    public double Increment { get; set; } = increment;
+    public double[] Predictor { get; } = new double[freeCount];
+    public double[] LastStep { get; } = new double[freeCount];
+    public double LastLoadStep { get; set; }
+    public bool HasPreviousStep { get; set; }
+    public double ArcLength { get; set; }
+    public int LastPointIndex { get; set; }
+    public int PointsOnBranch { get; set; }
+}
