@@ -10,7 +10,11 @@ public sealed record NodeDefinition(string Id, double X, double Y, double Z);
 /// A pin-ended bar between two nodes: Young's modulus, undeformed cross-section area A0 and an optional
 /// initial second Piola-Kirchhoff stress (prestress, positive in tension) present before any load.
 /// </summary>
-public sealed record BarDefinition(string Id, string StartNode, string EndNode, double ElasticModulus, double Area, double InitialStress = 0.0);
+public sealed record BarDefinition(string Id, string StartNode, string EndNode, double ElasticModulus, double Area, double InitialStress = 0.0)
+{
+    /// <summary>Mass density (mass per unit volume in units consistent with force and length: t/m³ with kN and m); 0 = weightless.</summary>
+    public double Density { get; init; }
+}
 
 /// <summary>A linear spring from a node to the ground acting on one global direction (an elastic bearing).</summary>
 public sealed record GroundSpringDefinition(string Id, string Node, Axis Direction, double Stiffness);
@@ -39,6 +43,19 @@ public sealed record LoadCaseDefinition(IReadOnlyList<NodalLoad> Constant, IRead
     public static LoadCaseDefinition ReferenceOnly(params NodalLoad[] reference) => new([], reference);
 }
 
+/// <summary>A named set of nodal loads (a load pattern). With <see cref="SelfWeight"/> it also carries the bars' weight.</summary>
+public sealed record LoadPattern(string Name, IReadOnlyList<NodalLoad> Loads, bool SelfWeight = false);
+
+/// <summary>A load pattern taken with a factor into a combination.</summary>
+public sealed record PatternFactor(string Pattern, double Factor);
+
+/// <summary>
+/// A factored combination of load patterns: the constant part is applied in full, the reference part is scaled by λ.
+/// Example (EN 1990, eq. 6.10): constant 1.35·permanent, reference 1.5·snow; or (ASCE 7, 2.3.1) 1.2·dead constant and
+/// 1.6·live as reference. The combination is added to any loads given directly in the load case.
+/// </summary>
+public sealed record LoadCombination(string Name, IReadOnlyList<PatternFactor> Constant, IReadOnlyList<PatternFactor> Reference);
+
 /// <summary>Labels of the consistent unit system the numbers are given in; echoed in every report.</summary>
 public sealed record UnitLabels(string Force = "kN", string Length = "m");
 
@@ -53,4 +70,8 @@ public sealed record ModelDefinition
     public IReadOnlyList<LinkSpringDefinition> LinkSprings { get; init; } = [];
     public IReadOnlyList<SupportDefinition> Supports { get; init; } = [];
     public LoadCaseDefinition Loads { get; init; } = new([], []);
+    public IReadOnlyList<LoadPattern> LoadPatterns { get; init; } = [];
+    public LoadCombination? Combination { get; init; }
+    /// <summary>Gravitational acceleration vector for self-weight (length/s²); default 9.81 downward along z.</summary>
+    public (double X, double Y, double Z) Gravity { get; init; } = (0, 0, -9.81);
 }

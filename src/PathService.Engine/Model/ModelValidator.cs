@@ -132,6 +132,8 @@ public static class ModelValidator
                 findings.Add(Error(FindingCode.NonPositiveArea, $"{path}.area", id,
                     $"bar '{id}' has cross-section area {bar.Area}; it must be positive"));
             CheckNumber(bar.InitialStress, $"{path}.initial_stress", id, "initial stress", findings);
+            if (CheckNumber(bar.Density, $"{path}.density", id, "density", findings) && bar.Density < 0)
+                findings.Add(Error(FindingCode.NegativeDensity, $"{path}.density", id, $"bar '{id}' has density {bar.Density}; it must be zero or positive"));
         }
     }
 
@@ -213,9 +215,60 @@ public static class ModelValidator
                             $"load on node '{load.Node}' in {(Axis)d} acts on a restrained direction and goes straight into the reaction"));
             }
         }
+        referenceSize += CheckCombination(model, nodes, findings);
         if (referenceSize == 0)
             findings.Add(Error(FindingCode.NoReferenceLoad, "loads.reference", null,
                 "the reference load (the part scaled by the load factor) is empty or zero; give at least one non-zero nodal force"));
+    }
+
+    /// <returns>A size measure of the combination's reference part (0 when it adds nothing).</returns>
+    private static double CheckCombination(ModelDefinition model, Dictionary<string, int> nodes, List<ValidationFinding> findings)
+    {
+        var sizes = new Dictionary<string, double>(StringComparer.Ordinal);
+        for (int p = 0; p < model.LoadPatterns.Count; p++)
+        {
+            var pattern = model.LoadPatterns[p];
+            string path = $"load_patterns[{p}]";
+            if (string.IsNullOrWhiteSpace(pattern.Name)) { findings.Add(Error(FindingCode.MissingId, $"{path}.name", null, $"load pattern at position {p} has no name")); continue; }
+            if (sizes.ContainsKey(pattern.Name)) { findings.Add(Error(FindingCode.DuplicateId, $"{path}.name", pattern.Name, $"load pattern name '{pattern.Name}' is used more than once")); continue; }
+            double size = 0;
+            for (int l = 0; l < pattern.Loads.Count; l++)
+            {
+                var load = pattern.Loads[l];
+                string lp = $"{path}.loads[{l}]";
+                ResolveNode(load.Node, $"{lp}.node", load.Node, "load", nodes, findings);
+                if (CheckNumber(load.Fx, $"{lp}.fx", load.Node, "force x", findings) & CheckNumber(load.Fy, $"{lp}.fy", load.Node, "force y", findings)
+                    & CheckNumber(load.Fz, $"{lp}.fz", load.Node, "force z", findings))
+                    size += Math.Abs(load.Fx) + Math.Abs(load.Fy) + Math.Abs(load.Fz);
+            }
+            if (pattern.SelfWeight)
+            {
+                double weight = model.Bars.Where(b => double.IsFinite(b.Density) && b.Density > 0).Sum(b => b.Density * Math.Abs(b.Area));
+                if (weight == 0)
+                    findings.Add(Warning(FindingCode.NegativeDensity, $"{path}.self_weight", pattern.Name, $"load pattern '{pattern.Name}' asks for self-weight but no bar has a density"));
+                size += weight;
+            }
+            sizes[pattern.Name] = size;
+        }
+        var (gx, gy, gz) = model.Gravity;
+        if (!double.IsFinite(gx) || !double.IsFinite(gy) || !double.IsFinite(gz))
+            findings.Add(Error(FindingCode.NonFiniteNumber, "gravity", null, "the gravity vector must be finite"));
+        if (model.Combination is not { } combo) return 0;
+        double reference = 0;
+        foreach (var (list, part) in new[] { (combo.Constant, "constant"), (combo.Reference, "reference") })
+            for (int i = 0; i < list.Count; i++)
+            {
+                string path = $"combination.{part}[{i}]";
+                if (!sizes.TryGetValue(list[i].Pattern ?? "", out double size))
+                {
+                    if (!model.LoadPatterns.Any(p => p.Name == list[i].Pattern))
+                        findings.Add(Error(FindingCode.UnknownPattern, $"{path}.pattern", list[i].Pattern, $"combination '{combo.Name}' refers to load pattern '{list[i].Pattern}', which is not defined"));
+                    continue;
+                }
+                if (CheckNumber(list[i].Factor, $"{path}.factor", list[i].Pattern, "factor", findings) && part == "reference")
+                    reference += Math.Abs(list[i].Factor) * size;
+            }
+        return reference;
     }
 
     private static string? CheckSpringId(string? id, string path, int position, Dictionary<string, int> ids, List<ValidationFinding> findings)

@@ -95,8 +95,7 @@ public sealed class StructuralModel
             PrescribedDisplacement[d] = s.PrescribedDisplacement;
         }
         Dofs = new DofMap(NodeCount, restrained);
-        ConstantLoad = LoadVector(def.Loads.Constant);
-        ReferenceLoad = LoadVector(def.Loads.Reference);
+        (ConstantLoad, ReferenceLoad) = LoadCombiner.Resolve(def, id => _nodeIndex[id], BarLength);
     }
 
     /// <summary>Validates and builds. Throws <see cref="ModelValidationException"/> with every error found.</summary>
@@ -123,17 +122,4 @@ public sealed class StructuralModel
     public bool HasPrescribedDisplacements => PrescribedDisplacement.Any(v => v != 0);
     public bool HasConstantLoad => ConstantLoad.Any(v => v != 0);
     public bool HasInitialStress => BarInitialStress.Any(v => v != 0);
-
-    private double[] LoadVector(IReadOnlyList<NodalLoad> loads)
-    {
-        var f = new double[3 * NodeCount];
-        foreach (var l in loads)
-        {
-            int n = _nodeIndex[l.Node];
-            f[3 * n] += l.Fx;
-            f[3 * n + 1] += l.Fy;
-            f[3 * n + 2] += l.Fz;
-        }
-        return f;
-    }
 }

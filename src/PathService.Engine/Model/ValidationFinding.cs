@@ -22,6 +22,8 @@ public enum FindingCode
     LoadOnRestrainedDirection,
     CoincidentNodes,
     InvalidDirection,
+    NegativeDensity,
+    UnknownPattern,
 }
 
 /// <summary>
