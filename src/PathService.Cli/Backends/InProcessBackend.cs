@@ -1,0 +1,99 @@
+using System.Runtime.CompilerServices;
+using PathService.Contracts.Mapping;
+using PathService.Contracts.V1;
+using PathService.Engine.Analyses;
+using PathService.Engine.Continuation;
+using PathService.Engine.Model;
+
+namespace PathService.Cli.Backends;
+
+/// <summary>Runs the engine in this process through the same mapping the server uses: the one-machine default.</summary>
+internal sealed class InProcessBackend : IAnalysisBackend
+{
+    public string Description => "in-process engine";
+
+    public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct)
+    {
+        var (model, controls) = Build(request.Model, request.LoadCase, request.Controls);
+        var mapper = new ResultMapper(model, controls.Monitored);
+        IEnumerator<PathEvent> events;
+        try { events = new PathTracer(model, controls).Trace(ct).GetEnumerator(); }
+        catch (ModelValidationException ex) { throw Rejected(ex); }
+        using (events)
+        {
+            while (true)
+            {
+                bool more;
+                try { more = await Task.Run(events.MoveNext, CancellationToken.None); }
+                catch (MechanismException ex) { throw Mechanism(ex); }
+                if (!more) yield break;
+                yield return mapper.ToResponse(events.Current);
+            }
+        }
+    }
+
+    public Task<CheckModelResponse> CheckAsync(CheckModelRequest request, CancellationToken ct)
+    {
+        var def = ModelMapper.ToDefinition(request.Model, request.LoadCase);
+        var findings = ModelValidator.Validate(def).ToList();
+        if (request.Controls is not null && findings.All(f => f.Severity != FindingSeverity.Error))
+            findings.AddRange(ControlsMapper.ToControls(request.Controls, 100, null).Validate(StructuralModel.Create(def)));
+        var response = new CheckModelResponse { Valid = findings.All(f => f.Severity != FindingSeverity.Error), Units = ModelMapper.ToUnits(def.Units) };
+        response.Findings.AddRange(findings.Select(ResultMapper.ToFinding));
+        return Task.FromResult(response);
+    }
+
+    public Task<AnalyzeLinearResponse> LinearAsync(AnalyzeLinearRequest request, CancellationToken ct)
+    {
+        var (model, _) = Build(request.Model, request.LoadCase, null);
+        try
+        {
+            double lf = request.HasLoadFactor ? request.LoadFactor : 1.0;
+            var r = LinearStaticAnalysis.Run(model, lf);
+            var response = new AnalyzeLinearResponse
+            {
+                LoadFactor = lf, Units = ModelMapper.ToUnits(model.Units),
+                State = new ResultMapper(model, []).ToState(r.Displacements, r.BarForces, null, r.Reactions),
+            };
+            response.Warnings.AddRange(model.Warnings.Select(ResultMapper.ToFinding));
+            return Task.FromResult(response);
+        }
+        catch (MechanismException ex) { throw Mechanism(ex); }
+    }
+
+    public Task<FindBucklingModesResponse> BucklingAsync(FindBucklingModesRequest request, CancellationToken ct)
+    {
+        var (model, _) = Build(request.Model, request.LoadCase, null);
+        try
+        {
+            var r = LinearBucklingAnalysis.Run(model, request.HasModeCount ? request.ModeCount : 3);
+            var mapper = new ResultMapper(model, []);
+            var response = new FindBucklingModesResponse { Iterations = r.Iterations, Converged = r.Converged, Units = ModelMapper.ToUnits(model.Units) };
+            response.Modes.AddRange(r.Modes.Select(mapper.ToMode));
+            return Task.FromResult(response);
+        }
+        catch (MechanismException ex) { throw Mechanism(ex); }
+        catch (InvalidOperationException ex) { throw new AnalysisRejectedException(ex.Message, []); }
+    }
+
+    public ValueTask DisposeAsync() => ValueTask.CompletedTask;
+
+    private static (StructuralModel, SolverControls) Build(StructureModel? m, LoadCase? loads, Contracts.V1.SolverControls? c)
+    {
+        try
+        {
+            var model = StructuralModel.Create(ModelMapper.ToDefinition(m, loads));
+            var controls = ControlsMapper.ToControls(c, 100, null);
+            var problems = c is null ? [] : controls.Validate(model);
+            if (problems.Count > 0) throw new ModelValidationException(problems);
+            return (model, controls);
+        }
+        catch (ModelValidationException ex) { throw Rejected(ex); }
+    }
+
+    private static AnalysisRejectedException Rejected(ModelValidationException ex) =>
+        new($"the request is invalid ({ex.Findings.Count} finding(s))", ex.Findings.Select(ResultMapper.ToFinding).ToList());
+
+    private static AnalysisRejectedException Mechanism(MechanismException ex) =>
+        new(ex.Message, [new Finding { Severity = FindingSeverity.Error, Code = "MECHANISM", Field = "model", ItemId = ex.NodeId, Message = ex.Message }]);
+}

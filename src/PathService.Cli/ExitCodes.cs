@@ -1,0 +1,18 @@
+namespace PathService.Cli;
+
+/// <summary>Process exit codes a pipeline can act on (documented in docs/cli.md).</summary>
+internal static class ExitCodes
+{
+    /// <summary>The analysis ran and ended by one of its own stopping rules.</summary>
+    public const int Success = 0;
+    /// <summary>Bad command line.</summary>
+    public const int Usage = 1;
+    /// <summary>The model or request is invalid (unreadable file, validation errors, a mechanism).</summary>
+    public const int InvalidInput = 2;
+    /// <summary>The analysis ran but did not reach its target (diverged, wall time, cancelled, initial state failed).</summary>
+    public const int TargetNotReached = 3;
+    /// <summary>The server could not be reached or failed.</summary>
+    public const int ServerUnavailable = 4;
+    /// <summary>In batch mode: at least one model failed (see the summary table).</summary>
+    public const int SomeFailed = 5;
+}

@@ -1,0 +1,59 @@
+using System.Globalization;
+using PathService.Contracts.V1;
+
+namespace PathService.Cli.Output;
+
+/// <summary>Live lines while tracing, and the closing summary table.</summary>
+internal static class ConsoleReport
+{
+    public static void Header(TracePathRequest request, string backend)
+    {
+        Console.WriteLine($"tracing '{request.Model?.Name}' ({request.Model?.Nodes.Count} nodes, {request.Model?.Bars.Count} bars) on {backend}");
+        Console.WriteLine($"{"point",6} {"λ",14} {"monitored",14} {"iter",5} {"neg.piv",8}  state");
+    }
+
+    public static void Live(TracePathResponse r)
+    {
+        switch (r.UpdateCase)
+        {
+            case TracePathResponse.UpdateOneofCase.Point:
+                var p = r.Point;
+                string mon = p.Monitored.Count > 0 ? p.Monitored[0].Value.ToString("G6", CultureInfo.InvariantCulture) : "";
+                Console.WriteLine($"{p.Index,6} {p.LoadFactor,14:G8} {mon,14} {p.Iterations,5} {p.NegativePivots,8}  {(p.Stability == Stability.Stable ? "stable" : "UNSTABLE")}");
+                break;
+            case TracePathResponse.UpdateOneofCase.CriticalPoint:
+                var c = r.CriticalPoint;
+                Console.WriteLine($"  >> {(c.Kind == CriticalPointKind.LimitPoint ? "limit point" : "bifurcation")} #{c.Sequence} at λ = {c.LoadFactor:G10} " +
+                                  $"(between points {c.PointBefore} and {c.PointAfter}, load alignment {c.LoadAlignment:G3}{(c.Located ? "" : ", not fully located")})");
+                break;
+            case TracePathResponse.UpdateOneofCase.StepCut:
+                Console.WriteLine($"  -- step {r.StepCut.Step} cut ({r.StepCut.Reason}): {r.StepCut.Detail}");
+                break;
+        }
+    }
+
+    public static void Summary(PathRecorder rec)
+    {
+        var s = rec.Summary;
+        if (s is null) { Console.WriteLine("no summary received"); return; }
+        Console.WriteLine();
+        Console.WriteLine("summary");
+        Row("outcome", $"{s.Reason} — {s.Message}");
+        Row("points / steps / iterations", $"{s.Points} / {s.Steps} / {s.Iterations}");
+        Row("step cuts", s.Cuts.ToString(CultureInfo.InvariantCulture));
+        Row("largest λ reached", s.MaxLoadFactor.ToString("G8", CultureInfo.InvariantCulture));
+        Row("factorisations", $"{s.Factorizations} ({s.FactorizationTime?.ToTimeSpan().TotalMilliseconds:F1} ms)");
+        Row("wall time", $"{s.WallTime?.ToTimeSpan().TotalMilliseconds:F1} ms");
+        if (rec.Criticals.Count > 0)
+        {
+            Console.WriteLine();
+            Console.WriteLine($"{"#",3} {"kind",-12} {"λ_cr",16} {"bracket (λ before … after)",32} {"alignment",10}");
+            foreach (var c in rec.Criticals)
+                Console.WriteLine($"{c.Sequence,3} {(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation"),-12} {c.LoadFactor,16:G10} {$"{c.LoadFactorBefore:G6} … {c.LoadFactorAfter:G6}",32} {c.LoadAlignment,10:G3}");
+        }
+        Console.WriteLine();
+        Console.WriteLine(Cautions.Short);
+    }
+
+    private static void Row(string name, string value) => Console.WriteLine($"  {name,-28} {value}");
+}

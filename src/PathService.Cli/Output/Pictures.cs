@@ -1,0 +1,47 @@
+using PathService.Cli.Plots;
+using PathService.Contracts.V1;
+
+namespace PathService.Cli.Output;
+
+/// <summary>Builds the SVG pictures of a recorded trace: the load-displacement curve and deformed shapes.</summary>
+internal static class Pictures
+{
+    /// <summary>Load factor against monitored displacement number <paramref name="which"/> (0-based).</summary>
+    public static string Curve(TracePathRequest request, PathRecorder rec, int which = 0)
+    {
+        string length = Unit(request.Model?.Units?.Length, "m");
+        string force = Unit(request.Model?.Units?.Force, "kN");
+        var first = rec.Points.FirstOrDefault(p => p.Monitored.Count > which);
+        string dof = first is null ? "(no monitored displacement)" : $"{first.Monitored[which].Node}.{PathRecorder.Axis(first.Monitored[which].Direction)}";
+        var points = rec.Points.Where(p => p.Monitored.Count > which)
+            .Select(p => new CurvePoint(p.Monitored[which].Value, p.LoadFactor, p.Stability == Stability.Stable)).ToList();
+        var markers = rec.Criticals.Where(c => c.Monitored.Count > which).Select(c => new CurveMarker(c.Monitored[which].Value, c.LoadFactor,
+            c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation",
+            $"{(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation")} λ = {c.LoadFactor:G5}")).ToList();
+        return LoadDisplacementPlot.Render(new CurveInput(
+            $"{Name(request)}: equilibrium path", $"displacement {dof} [{length}]", $"load factor λ (reference load in {force})",
+            points, markers, Cautions.Short));
+    }
+
+    /// <summary>Deformed shape at a point that carries the full state; null when none does.</summary>
+    public static string? Shape(TracePathRequest request, PathRecorder rec, int? pointIndex, double? scale)
+    {
+        var model = request.Model;
+        if (model is null) return null;
+        var point = pointIndex is { } i ? rec.Points.FirstOrDefault(p => p.Index == i && p.State is not null) : rec.Points.LastOrDefault(p => p.State is not null);
+        if (point?.State is null) return null;
+        var index = model.Nodes.Select((n, k) => (n.Id, k)).ToDictionary(t => t.Id, t => t.k);
+        var coords = model.Nodes.SelectMany(n => new[] { n.X, n.Y, n.Z }).ToArray();
+        var disp = new double[coords.Length];
+        foreach (var ns in point.State.Nodes)
+            if (index.TryGetValue(ns.Node, out int k)) { disp[3 * k] = ns.Ux; disp[3 * k + 1] = ns.Uy; disp[3 * k + 2] = ns.Uz; }
+        var force = point.State.Bars.ToDictionary(b => b.Bar, b => b.AxialForce);
+        var bars = model.Bars.Select(b => (index[b.StartNode], index[b.EndNode])).ToArray();
+        var forces = model.Bars.Select(b => force.GetValueOrDefault(b.Id)).ToArray();
+        return DeformedShapePlot.Render(new ShapeInput($"{Name(request)}: deformed shape at point {point.Index}, λ = {point.LoadFactor:G5}",
+            Unit(model.Units?.Length, "m"), coords, bars, disp, forces, scale, Cautions.Short));
+    }
+
+    private static string Name(TracePathRequest r) => string.IsNullOrWhiteSpace(r.Model?.Name) ? "model" : r.Model.Name;
+    private static string Unit(string? u, string fallback) => string.IsNullOrWhiteSpace(u) ? fallback : u;
+}
