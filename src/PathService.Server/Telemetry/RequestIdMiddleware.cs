@@ -8,7 +8,7 @@ namespace PathService.Server.Telemetry;
 /// returned as the response header <c>x-request-id</c> (for gRPC: in the response headers, before any message), tagged
 /// on the request's span and pushed into the Serilog log context so that every log line of the call carries it.
 /// </summary>
-public sealed class RequestIdMiddleware(RequestDelegate next)
+public sealed class RequestIdMiddleware(RequestDelegate next, ILogger<RequestIdMiddleware> logger)
 {
     public const string Header = "x-request-id";
 
@@ -20,7 +20,10 @@ public sealed class RequestIdMiddleware(RequestDelegate next)
         context.TraceIdentifier = id;
         context.Response.Headers[Header] = id;
         Activity.Current?.SetTag("pathservice.request_id", id);
+        // Both: the log context covers Serilog's own events (request logging), the scope covers ILogger events and
+        // replaces the host's connection-based RequestId of its outer scope.
         using (LogContext.PushProperty("RequestId", id))
+        using (logger.BeginScope(new Dictionary<string, object> { ["RequestId"] = id }))
             await next(context);
     }
 }
