@@ -5,7 +5,7 @@ using Grpc.Health.V1;
 using PathService.Contracts.V1;
 using PathService.Engine.Analyses;
 using PathService.Server.Hosting;
-using PathService.Server.Mapping;
+using PathService.Contracts.Mapping;
 using PathService.Server.Tests.Fixtures;
 using StructuralModel = PathService.Engine.Model.StructuralModel;
 

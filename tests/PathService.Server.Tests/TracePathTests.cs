@@ -3,7 +3,7 @@ using Grpc.Core;
 using PathService.Contracts.V1;
 using PathTracer = PathService.Engine.Continuation.PathTracer;
 using StructuralModel = PathService.Engine.Model.StructuralModel;
-using PathService.Server.Mapping;
+using PathService.Contracts.Mapping;
 using PathService.Server.Tests.Fixtures;
 using EnginePoint = PathService.Engine.Continuation.PathPoint;
 using EngineCritical = PathService.Engine.Continuation.CriticalPoint;

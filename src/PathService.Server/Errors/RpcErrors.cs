@@ -2,7 +2,7 @@ using Google.Protobuf.WellKnownTypes;
 using Google.Rpc;
 using Grpc.Core;
 using PathService.Engine.Model;
-using PathService.Server.Mapping;
+using PathService.Contracts.Mapping;
 
 namespace PathService.Server.Errors;
 

@@ -5,7 +5,7 @@ using PathService.Engine.Analyses;
 using PathService.Engine.Model;
 using PathService.Server.Errors;
 using PathService.Server.Limits;
-using PathService.Server.Mapping;
+using PathService.Contracts.Mapping;
 using PathService.Server.Telemetry;
 using FindingSeverity = PathService.Engine.Model.FindingSeverity;
 

@@ -5,7 +5,7 @@ using Grpc.Core;
 using PathService.Contracts.V1;
 using PathService.Engine.Continuation;
 using PathService.Engine.Model;
-using PathService.Server.Mapping;
+using PathService.Contracts.Mapping;
 using PathService.Server.Telemetry;
 using CriticalPoint = PathService.Engine.Continuation.CriticalPoint;
 using PathPoint = PathService.Engine.Continuation.PathPoint;

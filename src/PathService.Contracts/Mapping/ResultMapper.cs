@@ -4,7 +4,7 @@ using PathService.Engine.Continuation;
 using PathService.Engine.Model;
 using Proto = PathService.Contracts.V1;
 
-namespace PathService.Server.Mapping;
+namespace PathService.Contracts.Mapping;
 
 /// <summary>
 /// Engine results → proto messages. Engine vectors are in model order (3 per node); the messages carry the caller's

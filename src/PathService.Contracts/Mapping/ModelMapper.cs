@@ -3,7 +3,7 @@ using PathService.Engine.Model;
 using Axis = PathService.Engine.Model.Axis;
 using UnitLabels = PathService.Engine.Model.UnitLabels;
 
-namespace PathService.Server.Mapping;
+namespace PathService.Contracts.Mapping;
 
 /// <summary>
 /// Proto model and load case → engine definitions. The mapping is literal: every check is left to the engine's

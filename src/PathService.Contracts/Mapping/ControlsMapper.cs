@@ -2,7 +2,7 @@ using Google.Protobuf.WellKnownTypes;
 using PathService.Engine.Continuation;
 using Proto = PathService.Contracts.V1;
 
-namespace PathService.Server.Mapping;
+namespace PathService.Contracts.Mapping;
 
 /// <summary>Proto solver controls → engine controls; an unset optional field keeps the engine's default.</summary>
 public static class ControlsMapper

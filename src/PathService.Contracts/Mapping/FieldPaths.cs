@@ -1,7 +1,7 @@
 using System.Text;
 using PathService.Engine.Model;
 
-namespace PathService.Server.Mapping;
+namespace PathService.Contracts.Mapping;
 
 /// <summary>
 /// Translates the engine's field paths (written in the lower_snake_case of the model definition, e.g. <c>bars[3].area</c>)
