@@ -1,0 +1,67 @@
+using Google.Protobuf.WellKnownTypes;
+using PathService.Engine.Continuation;
+using Proto = PathService.Contracts.V1;
+
+namespace PathService.Contracts.Mapping;
+
+/// <summary>Proto solver controls → engine controls; an unset optional field keeps the engine's default.</summary>
+public static class ControlsMapper
+{
+    /// <param name="c">The caller's controls; null = all defaults.</param>
+    /// <param name="defaultMaxPoints">Point budget when the caller sets none (the engine default capped by the server limit).</param>
+    /// <param name="maxWallTime">Server cap on the trace's wall time; null for none.</param>
+    public static SolverControls ToControls(Proto.SolverControls? c, int defaultMaxPoints, TimeSpan? maxWallTime)
+    {
+        c ??= new Proto.SolverControls();
+        var d = new SolverControls();
+        TimeSpan? wall = c.WallTimeLimit is { } w ? ToTimeSpan(w) : null;
+        if (maxWallTime is { } cap && (wall is null || wall > cap)) wall = cap;
+        return d with
+        {
+            Method = c.Method switch
+            {
+                Proto.ContinuationMethod.Unspecified => ContinuationMethod.ArcLength,
+                Proto.ContinuationMethod.LoadControl => ContinuationMethod.LoadControl,
+                Proto.ContinuationMethod.DisplacementControl => ContinuationMethod.DisplacementControl,
+                Proto.ContinuationMethod.ArcLength => ContinuationMethod.ArcLength,
+                _ => (ContinuationMethod)(-1), // reported by the engine's validator as an unknown method
+            },
+            Constraint = c.Constraint switch
+            {
+                Proto.ArcLengthConstraint.Unspecified or Proto.ArcLengthConstraint.Cylindrical => ArcLengthConstraint.Cylindrical,
+                Proto.ArcLengthConstraint.Spherical => ArcLengthConstraint.Spherical,
+                _ => (ArcLengthConstraint)(-1),
+            },
+            InitialLoadIncrement = c.HasInitialLoadIncrement ? c.InitialLoadIncrement : d.InitialLoadIncrement,
+            ControlDof = ModelMapper.ToDof(c.ControlDof),
+            DisplacementIncrement = c.DisplacementIncrement,
+            MinIncrementRatio = c.HasMinIncrementRatio ? c.MinIncrementRatio : d.MinIncrementRatio,
+            MaxIncrementRatio = c.HasMaxIncrementRatio ? c.MaxIncrementRatio : d.MaxIncrementRatio,
+            DesiredIterations = c.HasDesiredIterations ? c.DesiredIterations : d.DesiredIterations,
+            MaxIterations = c.HasMaxIterations ? c.MaxIterations : d.MaxIterations,
+            ResidualTolerance = c.HasResidualTolerance ? c.ResidualTolerance : d.ResidualTolerance,
+            MaxCutsPerStep = c.HasMaxCutsPerStep ? c.MaxCutsPerStep : d.MaxCutsPerStep,
+            MaxPoints = c.HasMaxPoints ? c.MaxPoints : defaultMaxPoints,
+            TargetLoadFactor = c.HasTargetLoadFactor ? c.TargetLoadFactor : null,
+            TargetDisplacementDof = ModelMapper.ToDof(c.TargetDisplacementDof),
+            TargetDisplacement = c.HasTargetDisplacement ? c.TargetDisplacement : null,
+            StopAtFirstCriticalPoint = c.StopAtFirstCriticalPoint,
+            WallTimeLimit = wall,
+            Monitored = c.Monitored.Select(m => ModelMapper.ToDof(m)!).ToArray(),
+            DetectCriticalPoints = c.HasDetectCriticalPoints ? c.DetectCriticalPoints : d.DetectCriticalPoints,
+            CriticalPointTolerance = c.HasCriticalPointTolerance ? c.CriticalPointTolerance : d.CriticalPointTolerance,
+            BifurcationThreshold = c.HasBifurcationThreshold ? c.BifurcationThreshold : d.BifurcationThreshold,
+            TinyPivotRatio = c.HasTinyPivotRatio ? c.TinyPivotRatio : d.TinyPivotRatio,
+            FullStateEvery = c.FullStateEvery,
+            FullStateAtCriticalPoints = c.HasFullStateAtCriticalPoints ? c.FullStateAtCriticalPoints : d.FullStateAtCriticalPoints,
+            FullStateAtEnd = c.HasFullStateAtEnd ? c.FullStateAtEnd : d.FullStateAtEnd,
+        };
+    }
+
+    /// <summary>A malformed Duration (seconds and nanos of different sign, out of range) becomes a non-positive limit the validator rejects.</summary>
+    private static TimeSpan ToTimeSpan(Duration d)
+    {
+        try { return d.ToTimeSpan(); }
+        catch (InvalidOperationException) { return TimeSpan.Zero; }
+    }
+}

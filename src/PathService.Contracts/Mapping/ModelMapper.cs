@@ -1,0 +1,60 @@
+using PathService.Contracts.V1;
+using PathService.Engine.Model;
+using Axis = PathService.Engine.Model.Axis;
+using UnitLabels = PathService.Engine.Model.UnitLabels;
+
+namespace PathService.Contracts.Mapping;
+
+/// <summary>
+/// Proto model and load case → engine definitions. The mapping is literal: every check is left to the engine's
+/// validator so that a client gets all findings at once, with the engine's wording, for proto and engine callers alike.
+/// </summary>
+public static class ModelMapper
+{
+    /// <summary>Stands for DIRECTION_UNSPECIFIED (or an unknown enum number); the engine reports it as an invalid direction.</summary>
+    public const Axis NoAxis = (Axis)(-1);
+
+    public static Axis ToAxis(Direction d) => d switch
+    {
+        Direction.X => Axis.X,
+        Direction.Y => Axis.Y,
+        Direction.Z => Axis.Z,
+        _ => NoAxis,
+    };
+
+    public static Direction ToDirection(Axis a) => a switch
+    {
+        Axis.X => Direction.X,
+        Axis.Y => Direction.Y,
+        Axis.Z => Direction.Z,
+        _ => Direction.Unspecified,
+    };
+
+    public static DofReference? ToDof(DofRef? d) => d is null ? null : new DofReference(d.Node, ToAxis(d.Direction));
+
+    public static ModelDefinition ToDefinition(StructureModel? model, LoadCase? loads)
+    {
+        model ??= new StructureModel();
+        loads ??= new LoadCase();
+        var defaults = new UnitLabels();
+        return new ModelDefinition
+        {
+            Name = string.IsNullOrWhiteSpace(model.Name) ? "model" : model.Name,
+            Units = new UnitLabels(
+                string.IsNullOrWhiteSpace(model.Units?.Force) ? defaults.Force : model.Units.Force,
+                string.IsNullOrWhiteSpace(model.Units?.Length) ? defaults.Length : model.Units.Length),
+            Nodes = model.Nodes.Select(n => new NodeDefinition(n.Id, n.X, n.Y, n.Z)).ToArray(),
+            Bars = model.Bars.Select(b => new BarDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, b.Area, b.InitialStress)).ToArray(),
+            GroundSprings = model.GroundSprings.Select(s => new GroundSpringDefinition(s.Id, s.Node, ToAxis(s.Direction), s.Stiffness)).ToArray(),
+            LinkSprings = model.LinkSprings.Select(s => new LinkSpringDefinition(s.Id, s.StartNode, s.EndNode, ToAxis(s.Direction), s.Stiffness)).ToArray(),
+            Supports = model.Supports.Select(s => new SupportDefinition(s.Node, ToAxis(s.Direction), s.PrescribedDisplacement)).ToArray(),
+            Loads = new LoadCaseDefinition(
+                loads.Constant.Select(ToLoad).ToArray(),
+                loads.Reference.Select(ToLoad).ToArray()),
+        };
+    }
+
+    public static Contracts.V1.UnitLabels ToUnits(UnitLabels u) => new() { Force = u.Force, Length = u.Length };
+
+    private static Engine.Model.NodalLoad ToLoad(Contracts.V1.NodalLoad l) => new(l.Node, l.Fx, l.Fy, l.Fz);
+}

@@ -1,0 +1,143 @@
+using Google.Protobuf.WellKnownTypes;
+using PathService.Engine.Analyses;
+using PathService.Engine.Continuation;
+using PathService.Engine.Model;
+using Proto = PathService.Contracts.V1;
+
+namespace PathService.Contracts.Mapping;
+
+/// <summary>
+/// Engine results → proto messages. Engine vectors are in model order (3 per node); the messages carry the caller's
+/// ids instead, so a client never has to rely on positions.
+/// </summary>
+public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReference> monitored)
+{
+    public Proto.TracePathResponse ToResponse(PathEvent e) => e switch
+    {
+        PathPoint p => new() { Point = ToPoint(p) },
+        StepCut c => new() { StepCut = ToCut(c) },
+        CriticalPoint cp => new() { CriticalPoint = ToCritical(cp) },
+        PathSummary s => new() { Summary = ToSummary(s) },
+        _ => throw new NotSupportedException($"unknown path event {e.GetType().Name}"),
+    };
+
+    public Proto.PathPoint ToPoint(PathPoint p)
+    {
+        var m = new Proto.PathPoint
+        {
+            Index = p.Index, LoadFactor = p.LoadFactor, ArcLength = p.ArcLength, Iterations = p.Iterations,
+            ResidualNorm = p.ResidualNorm, NegativePivots = p.NegativePivots, Increment = p.Increment,
+            Stability = p.Stability == Engine.Continuation.Stability.Stable ? Proto.Stability.Stable : Proto.Stability.Unstable,
+            State = p.State is null ? null : ToState(p.State),
+        };
+        AddMonitored(m.Monitored, p.Monitored);
+        return m;
+    }
+
+    public static Proto.StepCut ToCut(StepCut c) => new()
+    {
+        Step = c.Step, Attempt = c.Attempt, RejectedIncrement = c.RejectedIncrement, NextIncrement = c.NextIncrement,
+        Iterations = c.Iterations, ResidualNorm = c.ResidualNorm, Detail = c.Detail,
+        Reason = c.Reason switch
+        {
+            CutReason.MaxIterations => Proto.CutReason.MaxIterations,
+            CutReason.ResidualGrowth => Proto.CutReason.ResidualGrowth,
+            CutReason.NonFiniteValue => Proto.CutReason.NonFiniteValue,
+            CutReason.ComplexRoots => Proto.CutReason.ComplexRoots,
+            CutReason.SingularTangent => Proto.CutReason.SingularTangent,
+            CutReason.PathJump => Proto.CutReason.PathJump,
+            _ => Proto.CutReason.Unspecified,
+        },
+    };
+
+    public Proto.CriticalPoint ToCritical(CriticalPoint c)
+    {
+        var m = new Proto.CriticalPoint
+        {
+            Sequence = c.Sequence,
+            Kind = c.Kind == CriticalPointKind.LimitPoint ? Proto.CriticalPointKind.LimitPoint : Proto.CriticalPointKind.Bifurcation,
+            LoadFactor = c.LoadFactor, LoadFactorBefore = c.LoadFactorBefore, LoadFactorAfter = c.LoadFactorAfter,
+            PointBefore = c.PointBefore, PointAfter = c.PointAfter,
+            NegativePivotsBefore = c.NegativePivotsBefore, NegativePivotsAfter = c.NegativePivotsAfter,
+            LowestEigenvalue = c.LowestEigenvalue, LoadAlignment = c.LoadAlignment, Located = c.Located, Tolerance = c.Tolerance,
+            State = c.State is null ? null : ToState(c.State),
+        };
+        AddMonitored(m.Monitored, c.Monitored);
+        AddVectors(m.Mode, c.Mode);
+        return m;
+    }
+
+    public Proto.PathSummary ToSummary(PathSummary s) => new()
+    {
+        Reason = s.Reason switch
+        {
+            StopReason.TargetLoadFactorReached => Proto.StopReason.TargetLoadFactorReached,
+            StopReason.TargetDisplacementReached => Proto.StopReason.TargetDisplacementReached,
+            StopReason.PointLimitReached => Proto.StopReason.PointLimitReached,
+            StopReason.CriticalPointReached => Proto.StopReason.CriticalPointReached,
+            StopReason.Cancelled => Proto.StopReason.Cancelled,
+            StopReason.WallTimeExceeded => Proto.StopReason.WallTimeExceeded,
+            StopReason.Diverged => Proto.StopReason.Diverged,
+            StopReason.InitialStateFailed => Proto.StopReason.InitialStateFailed,
+            _ => Proto.StopReason.Unspecified,
+        },
+        Message = s.Message, Completed = s.Completed, MaxLoadFactor = s.MaxLoadFactor, FinalLoadFactor = s.FinalLoadFactor,
+        Points = s.Points, Steps = s.Steps, Iterations = s.Iterations, Cuts = s.Cuts, Factorizations = s.Factorizations,
+        FactorizationTime = Duration.FromTimeSpan(s.FactorizationTime), WallTime = Duration.FromTimeSpan(s.WallTime),
+        CriticalPoints = s.CriticalPoints.Count, Units = ModelMapper.ToUnits(model.Units),
+    };
+
+    /// <summary>Full state from per-node displacements and reactions and per-bar forces and strains; spring forces are derived here.</summary>
+    public Proto.StructureState ToState(IReadOnlyList<double> u, IReadOnlyList<double> barForces, IReadOnlyList<double>? barStrains, IReadOnlyList<double> reactions)
+    {
+        var s = new Proto.StructureState();
+        for (int n = 0; n < model.NodeCount; n++)
+            s.Nodes.Add(new Proto.NodeState
+            {
+                Node = model.NodeIds[n],
+                Ux = u[3 * n], Uy = u[3 * n + 1], Uz = u[3 * n + 2],
+                Rx = reactions[3 * n], Ry = reactions[3 * n + 1], Rz = reactions[3 * n + 2],
+            });
+        for (int b = 0; b < model.BarCount; b++)
+            s.Bars.Add(new Proto.BarState { Bar = model.BarIds[b], AxialForce = barForces[b], Strain = barStrains?[b] ?? barForces[b] / (model.BarModulus[b] * model.BarArea[b]) });
+        for (int i = 0; i < model.GroundSpringIds.Length; i++)
+            s.Springs.Add(new Proto.SpringState { Spring = model.GroundSpringIds[i], Force = model.GroundSpringStiffness[i] * u[model.GroundSpringDof[i]] });
+        for (int i = 0; i < model.LinkSpringIds.Length; i++)
+            s.Springs.Add(new Proto.SpringState
+            {
+                Spring = model.LinkSpringIds[i],
+                Force = model.LinkSpringStiffness[i] * (u[model.LinkSpringEndDof[i]] - u[model.LinkSpringStartDof[i]]),
+            });
+        return s;
+    }
+
+    public Proto.StructureState ToState(StructureState st) => ToState(st.Displacements, st.BarForces, st.BarStrains, st.Reactions);
+
+    public Proto.BucklingMode ToMode(BucklingMode b)
+    {
+        var m = new Proto.BucklingMode { Number = b.Number, LoadFactor = b.LoadFactor, LoadAlignment = b.LoadAlignment };
+        AddVectors(m.Shape, b.Shape);
+        return m;
+    }
+
+    public static Proto.Finding ToFinding(ValidationFinding f) => new()
+    {
+        Severity = f.Severity == FindingSeverity.Error ? Proto.FindingSeverity.Error : Proto.FindingSeverity.Warning,
+        Code = FieldPaths.CodeName(f.Code),
+        Field = FieldPaths.ToRequestPath(f.FieldPath),
+        ItemId = f.ItemId ?? "",
+        Message = f.Message,
+    };
+
+    private void AddMonitored(Google.Protobuf.Collections.RepeatedField<Proto.MonitoredDisplacement> target, double[] values)
+    {
+        for (int i = 0; i < values.Length && i < monitored.Count; i++)
+            target.Add(new Proto.MonitoredDisplacement { Node = monitored[i].Node, Direction = ModelMapper.ToDirection(monitored[i].Direction), Value = values[i] });
+    }
+
+    private void AddVectors(Google.Protobuf.Collections.RepeatedField<Proto.NodeVector> target, double[] v)
+    {
+        for (int n = 0; n < model.NodeCount && 3 * n + 2 < v.Length; n++)
+            target.Add(new Proto.NodeVector { Node = model.NodeIds[n], X = v[3 * n], Y = v[3 * n + 1], Z = v[3 * n + 2] });
+    }
+}

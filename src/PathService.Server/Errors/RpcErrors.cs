@@ -1,0 +1,75 @@
+using Google.Protobuf.WellKnownTypes;
+using Google.Rpc;
+using Grpc.Core;
+using PathService.Engine.Model;
+using PathService.Contracts.Mapping;
+
+namespace PathService.Server.Errors;
+
+/// <summary>
+/// Builds the RpcExceptions of the service with the richer error model: a google.rpc.Status whose details say
+/// exactly what to fix (BadRequest field violations, ErrorInfo, QuotaFailure, RetryInfo). Bad input never surfaces
+/// as UNKNOWN or INTERNAL.
+/// </summary>
+public static class RpcErrors
+{
+    public const string Domain = "pathservice.v1";
+
+    /// <summary>INVALID_ARGUMENT with one field violation per error finding (warnings are left out).</summary>
+    public static RpcException Invalid(IEnumerable<ValidationFinding> findings)
+    {
+        var errors = findings.Where(f => f.Severity == FindingSeverity.Error).ToList();
+        var bad = new BadRequest();
+        foreach (var f in errors)
+            bad.FieldViolations.Add(new BadRequest.Types.FieldViolation
+            {
+                Field = FieldPaths.ToRequestPath(f.FieldPath),
+                Description = Describe(f),
+            });
+        string first = errors.Count > 0 ? Describe(errors[0]) : "the request is invalid";
+        string message = errors.Count > 1 ? $"{first} (and {errors.Count - 1} more)" : first;
+        return Build(StatusCode.InvalidArgument, message, bad);
+    }
+
+    /// <summary>INVALID_ARGUMENT for one request field the engine does not see (e.g. mode_count).</summary>
+    public static RpcException InvalidField(string field, string description) =>
+        Build(StatusCode.InvalidArgument, description, new BadRequest
+        {
+            FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } },
+        });
+
+    /// <summary>FAILED_PRECONDITION for a structure that is a mechanism: the model is well-formed but cannot carry load.</summary>
+    public static RpcException Mechanism(MechanismException ex) =>
+        Build(StatusCode.FailedPrecondition, ex.Message, new ErrorInfo
+        {
+            Reason = "MECHANISM",
+            Domain = Domain,
+            Metadata = { ["node"] = ex.NodeId, ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
+        });
+
+    /// <summary>FAILED_PRECONDITION for a start state that the requested analysis cannot handle (e.g. already unstable).</summary>
+    public static RpcException Precondition(string reason, string message) =>
+        Build(StatusCode.FailedPrecondition, message, new ErrorInfo { Reason = reason, Domain = Domain });
+
+    /// <summary>RESOURCE_EXHAUSTED for a request above a configured size limit; retrying the same request cannot help.</summary>
+    public static RpcException TooLarge(string field, string subject, string description) =>
+        Build(StatusCode.ResourceExhausted, description,
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = subject, Description = description } } },
+            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } } });
+
+    /// <summary>RESOURCE_EXHAUSTED when every analysis slot is taken, with the delay after which a retry is sensible.</summary>
+    public static RpcException Busy(int capacity, TimeSpan retryAfter) =>
+        Build(StatusCode.ResourceExhausted, $"all {capacity} analysis slots are busy; retry later",
+            new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = "concurrent_analyses", Description = $"at most {capacity} analyses run at once" } } });
+
+    private static string Describe(ValidationFinding f) =>
+        f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{id}')" : f.Message;
+
+    private static RpcException Build(StatusCode code, string message, params Google.Protobuf.IMessage[] details)
+    {
+        var status = new Google.Rpc.Status { Code = (int)code, Message = message };
+        foreach (var d in details) status.Details.Add(Any.Pack(d));
+        return status.ToRpcException();
+    }
+}

@@ -1,0 +1,43 @@
+using Microsoft.Extensions.Options;
+using PathService.Contracts.V1;
+using PathService.Server.Configuration;
+using PathService.Server.Errors;
+
+namespace PathService.Server.Limits;
+
+/// <summary>
+/// Size limits checked before any model is built, so that an oversized request costs the server nothing but parsing.
+/// </summary>
+public sealed class RequestLimits(IOptions<PathServiceOptions> options)
+{
+    private readonly LimitOptions _l = options.Value.Limits;
+
+    public LimitOptions Values => _l;
+
+    /// <summary>Throws RESOURCE_EXHAUSTED when the model has more nodes or bars than the server accepts.</summary>
+    public void CheckModelSize(StructureModel? model)
+    {
+        if (model is null) return;
+        if (model.Nodes.Count > _l.MaxNodes)
+            throw RpcErrors.TooLarge("model.nodes", "model.nodes", $"the model has {model.Nodes.Count} nodes; this server accepts at most {_l.MaxNodes}");
+        if (model.Bars.Count > _l.MaxBars)
+            throw RpcErrors.TooLarge("model.bars", "model.bars", $"the model has {model.Bars.Count} bars; this server accepts at most {_l.MaxBars}");
+        int springs = model.GroundSprings.Count + model.LinkSprings.Count;
+        if (springs > _l.MaxBars)
+            throw RpcErrors.TooLarge("model.ground_springs", "model.springs", $"the model has {springs} springs; this server accepts at most {_l.MaxBars}");
+        if (model.Supports.Count > 3 * _l.MaxNodes)
+            throw RpcErrors.TooLarge("model.supports", "model.supports", $"the model has {model.Supports.Count} supports; this server accepts at most {3 * _l.MaxNodes}");
+    }
+
+    /// <summary>Throws RESOURCE_EXHAUSTED when the caller asks for more points than the server produces in one trace.</summary>
+    public void CheckControls(SolverControls? controls)
+    {
+        if (controls is { HasMaxPoints: true } && controls.MaxPoints > _l.MaxPoints)
+            throw RpcErrors.TooLarge("controls.max_points", "controls.max_points", $"max_points is {controls.MaxPoints}; this server traces at most {_l.MaxPoints} points per call");
+    }
+
+    /// <summary>The engine's default point budget, capped by the server limit.</summary>
+    public int DefaultMaxPoints => Math.Min(100, _l.MaxPoints);
+
+    public TimeSpan? MaxTraceTime => _l.MaxTraceSeconds > 0 ? TimeSpan.FromSeconds(_l.MaxTraceSeconds) : null;
+}

@@ -1,0 +1,88 @@
+using System.Net;
+using System.Text;
+using System.Text.Json;
+using Grpc.Health.V1;
+using PathService.Contracts.V1;
+using PathService.Engine.Analyses;
+using PathService.Server.Hosting;
+using PathService.Contracts.Mapping;
+using PathService.Server.Tests.Fixtures;
+using StructuralModel = PathService.Engine.Model.StructuralModel;
+
+namespace PathService.Server.Tests;
+
+/// <summary>Health, JSON transcoding, metrics scrape and the unary analyses.</summary>
+[Collection(ServerCollection.Name)]
+public class PlatformTests(ServerFixture server)
+{
+    [Theory]
+    [InlineData("")]
+    [InlineData(ServerHost.HealthServiceName)]
+    public async Task Health_check_reports_serving(string service)
+    {
+        var health = new Health.HealthClient(server.Channel);
+        var reply = await health.CheckAsync(new HealthCheckRequest { Service = service });
+        Assert.Equal(HealthCheckResponse.Types.ServingStatus.Serving, reply.Status);
+    }
+
+    [Fact]
+    public async Task CheckModel_works_over_json_transcoding()
+    {
+        var model = DemoStructures.TwoBarTruss();
+        model.Bars[0].Area = -1;
+        var json = Google.Protobuf.JsonFormatter.Default.Format(new CheckModelRequest { Model = model, LoadCase = DemoStructures.ApexLoad() });
+        using var response = await server.Http.PostAsync("/v1/models:check", new StringContent(json, Encoding.UTF8, "application/json"));
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        Assert.True(response.Headers.Contains("x-request-id"));
+        using var body = JsonDocument.Parse(await response.Content.ReadAsStringAsync());
+        Assert.False(body.RootElement.TryGetProperty("valid", out var valid) && valid.GetBoolean());
+        var finding = Assert.Single(body.RootElement.GetProperty("findings").EnumerateArray());
+        Assert.Equal("model.bars[0].area", finding.GetProperty("field").GetString());
+        Assert.Equal("NON_POSITIVE_AREA", finding.GetProperty("code").GetString());
+        Assert.Equal("bar-L", finding.GetProperty("itemId").GetString());
+    }
+
+    [Fact]
+    public async Task CheckModel_accepts_a_valid_model_and_checks_controls()
+    {
+        var ok = await server.Client.CheckModelAsync(new CheckModelRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad() });
+        Assert.True(ok.Valid);
+        Assert.Equal("kN", ok.Units.Force);
+        var controls = new SolverControls { Method = ContinuationMethod.DisplacementControl };
+        var bad = await server.Client.CheckModelAsync(new CheckModelRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(), Controls = controls });
+        Assert.False(bad.Valid);
+        Assert.Contains(bad.Findings, f => f.Field == "controls.control_dof");
+    }
+
+    [Fact]
+    public async Task Prometheus_scrape_lists_the_service_metrics()
+    {
+        await server.Client.AnalyzeLinearAsync(new AnalyzeLinearRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad() });
+        var text = await server.Http.GetStringAsync("/metrics");
+        Assert.Contains("pathservice_analyses_started", text);
+    }
+
+    [Fact]
+    public async Task AnalyzeLinear_matches_the_engine_and_echoes_ids()
+    {
+        var request = new AnalyzeLinearRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(), LoadFactor = 2 };
+        var reply = await server.Client.AnalyzeLinearAsync(request);
+        var expected = LinearStaticAnalysis.Run(StructuralModel.Create(ModelMapper.ToDefinition(request.Model, request.LoadCase)), 2);
+        Assert.Equal(2, reply.LoadFactor);
+        Assert.Equal("apex", reply.State.Nodes[1].Node);
+        Assert.Equal(expected.Displacements[4], reply.State.Nodes[1].Uy);
+        Assert.Equal(expected.BarForces[1], reply.State.Bars[1].AxialForce);
+        Assert.Equal("m", reply.Units.Length);
+    }
+
+    [Fact]
+    public async Task FindBucklingModes_returns_modes_with_node_ids()
+    {
+        var (model, loads, _) = DemoStructures.LatticeCap(3);
+        var reply = await server.Client.FindBucklingModesAsync(new FindBucklingModesRequest { Model = model, LoadCase = loads, ModeCount = 2 });
+        Assert.Equal(2, reply.Modes.Count);
+        Assert.True(reply.Modes[0].LoadFactor <= reply.Modes[1].LoadFactor);
+        Assert.Equal(model.Nodes.Count, reply.Modes[0].Shape.Count);
+        Assert.Equal(model.Nodes[0].Id, reply.Modes[0].Shape[0].Node);
+    }
+}
