@@ -1,8 +1,12 @@
 #!/usr/bin/env bash
 # Runs every test of the project on a fresh machine: restores packages, builds, runs the .NET test suites,
-# then the contract lint and the cross-language interoperability test when their tools are present.
+# lints the contract (buf lint, buf breaking) and runs the cross-language interoperability test (Node.js client).
+# Needs the .NET 10 SDK, Node.js 20+ and npm; npm packages come from the registry on first use.
 set -euo pipefail
 cd "$(dirname "$0")/.."
+(cd tests/interop && [ -d node_modules/@grpc/grpc-js ] || npm ci --no-audit --no-fund)
 dotnet restore PathService.sln
-dotnet build PathService.sln -c Release --no-restore
-dotnet test PathService.sln -c Release --no-build
+dotnet build PathService.sln -c Release --no-restore -nologo
+dotnet test PathService.sln -c Release --no-build -nologo
+bash tests/interop/lint.sh
+bash tests/interop/run.sh

@@ -12,7 +12,12 @@ cd "$root"
 "$buf" lint
 echo "buf lint: clean"
 
-base="${PROTO_BASE_REF:-main}"
+# The contract to stay compatible with: PROTO_BASE_REF when given, else the remote main, else the previous commit
+# that changed the contract (in CI's fresh clone of main that is the last contract before this submission's head).
+if [ -n "${PROTO_BASE_REF:-}" ]; then base="$PROTO_BASE_REF"
+elif git rev-parse --verify --quiet origin/main >/dev/null && [ "$(git rev-parse origin/main)" != "$(git rev-parse HEAD)" ]; then base=origin/main
+else base="$(git log --format=%H -n 1 --skip=1 -- protos/pathservice 2>/dev/null || true)"; base="${base:-HEAD}"
+fi
 if git rev-parse --verify --quiet "$base" >/dev/null && [ -n "$(git ls-tree -r --name-only "$base" -- protos/pathservice 2>/dev/null)" ]; then
   # Compare against an exported copy of the base's contract (works in clones and worktrees alike).
   prev="$(mktemp -d)"

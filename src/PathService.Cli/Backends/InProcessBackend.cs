@@ -36,9 +36,9 @@ internal sealed class InProcessBackend : IAnalysisBackend
     {
         var def = ModelMapper.ToDefinition(request.Model, request.LoadCase);
         var findings = ModelValidator.Validate(def).ToList();
-        if (request.Controls is not null && findings.All(f => f.Severity != FindingSeverity.Error))
+        if (request.Controls is not null && findings.All(f => f.Severity != Engine.Model.FindingSeverity.Error))
             findings.AddRange(ControlsMapper.ToControls(request.Controls, 100, null).Validate(StructuralModel.Create(def)));
-        var response = new CheckModelResponse { Valid = findings.All(f => f.Severity != FindingSeverity.Error), Units = ModelMapper.ToUnits(def.Units) };
+        var response = new CheckModelResponse { Valid = findings.All(f => f.Severity != Engine.Model.FindingSeverity.Error), Units = ModelMapper.ToUnits(def.Units) };
         response.Findings.AddRange(findings.Select(ResultMapper.ToFinding));
         return Task.FromResult(response);
     }
@@ -78,7 +78,7 @@ internal sealed class InProcessBackend : IAnalysisBackend
 
     public ValueTask DisposeAsync() => ValueTask.CompletedTask;
 
-    private static (StructuralModel, SolverControls) Build(StructureModel? m, LoadCase? loads, Contracts.V1.SolverControls? c)
+    private static (StructuralModel, Engine.Continuation.SolverControls) Build(StructureModel? m, LoadCase? loads, Contracts.V1.SolverControls? c)
     {
         try
         {
@@ -95,5 +95,5 @@ internal sealed class InProcessBackend : IAnalysisBackend
         new($"the request is invalid ({ex.Findings.Count} finding(s))", ex.Findings.Select(ResultMapper.ToFinding).ToList());
 
     private static AnalysisRejectedException Mechanism(MechanismException ex) =>
-        new(ex.Message, [new Finding { Severity = FindingSeverity.Error, Code = "MECHANISM", Field = "model", ItemId = ex.NodeId, Message = ex.Message }]);
+        new(ex.Message, [new Finding { Severity = Contracts.V1.FindingSeverity.Error, Code = "MECHANISM", Field = "model", ItemId = ex.NodeId, Message = ex.Message }]);
 }

@@ -53,6 +53,9 @@ public static class ControlsMapper
             BifurcationThreshold = c.HasBifurcationThreshold ? c.BifurcationThreshold : d.BifurcationThreshold,
             TinyPivotRatio = c.HasTinyPivotRatio ? c.TinyPivotRatio : d.TinyPivotRatio,
             FullStateEvery = c.FullStateEvery,
+            SwitchBranches = c.SwitchBranches,
+            SecondaryBranchPoints = c.HasSecondaryBranchPoints ? c.SecondaryBranchPoints : d.SecondaryBranchPoints,
+            BranchPerturbation = c.HasBranchPerturbation ? c.BranchPerturbation : d.BranchPerturbation,
             FullStateAtCriticalPoints = c.HasFullStateAtCriticalPoints ? c.FullStateAtCriticalPoints : d.FullStateAtCriticalPoints,
             FullStateAtEnd = c.HasFullStateAtEnd ? c.FullStateAtEnd : d.FullStateAtEnd,
         };

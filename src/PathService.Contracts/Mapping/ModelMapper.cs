@@ -44,13 +44,18 @@ public static class ModelMapper
                 string.IsNullOrWhiteSpace(model.Units?.Force) ? defaults.Force : model.Units.Force,
                 string.IsNullOrWhiteSpace(model.Units?.Length) ? defaults.Length : model.Units.Length),
             Nodes = model.Nodes.Select(n => new NodeDefinition(n.Id, n.X, n.Y, n.Z)).ToArray(),
-            Bars = model.Bars.Select(b => new BarDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, b.Area, b.InitialStress)).ToArray(),
+            Bars = model.Bars.Select(b => new BarDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, b.Area, b.InitialStress) { Density = b.Density }).ToArray(),
             GroundSprings = model.GroundSprings.Select(s => new GroundSpringDefinition(s.Id, s.Node, ToAxis(s.Direction), s.Stiffness)).ToArray(),
             LinkSprings = model.LinkSprings.Select(s => new LinkSpringDefinition(s.Id, s.StartNode, s.EndNode, ToAxis(s.Direction), s.Stiffness)).ToArray(),
             Supports = model.Supports.Select(s => new SupportDefinition(s.Node, ToAxis(s.Direction), s.PrescribedDisplacement)).ToArray(),
             Loads = new LoadCaseDefinition(
                 loads.Constant.Select(ToLoad).ToArray(),
                 loads.Reference.Select(ToLoad).ToArray()),
+            LoadPatterns = loads.Patterns.Select(p => new Engine.Model.LoadPattern(p.Name, p.Loads.Select(ToLoad).ToArray(), p.SelfWeight)).ToArray(),
+            Combination = loads.Combination is { } c
+                ? new Engine.Model.LoadCombination(c.Name, c.Constant.Select(f => new Engine.Model.PatternFactor(f.Pattern, f.Factor)).ToArray(), c.Reference.Select(f => new Engine.Model.PatternFactor(f.Pattern, f.Factor)).ToArray())
+                : null,
+            Gravity = loads.Gravity is { } g ? (g.X, g.Y, g.Z) : (0, 0, -9.81),
         };
     }
 

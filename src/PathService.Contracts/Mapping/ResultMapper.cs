@@ -18,6 +18,8 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         StepCut c => new() { StepCut = ToCut(c) },
         CriticalPoint cp => new() { CriticalPoint = ToCritical(cp) },
         PathSummary s => new() { Summary = ToSummary(s) },
+        BranchStarted b => new() { BranchStarted = new Proto.BranchStarted { Branch = b.Branch, FromBranch = b.FromBranch, CriticalPointSequence = b.CriticalPointSequence, LoadFactor = b.LoadFactor } },
+        BranchEnded b => new() { BranchEnded = new Proto.BranchEnded { Branch = b.Branch, Reason = ToReason(b.Reason), Message = b.Message } },
         _ => throw new NotSupportedException($"unknown path event {e.GetType().Name}"),
     };
 
@@ -26,7 +28,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         var m = new Proto.PathPoint
         {
             Index = p.Index, LoadFactor = p.LoadFactor, ArcLength = p.ArcLength, Iterations = p.Iterations,
-            ResidualNorm = p.ResidualNorm, NegativePivots = p.NegativePivots, Increment = p.Increment,
+            ResidualNorm = p.ResidualNorm, NegativePivots = p.NegativePivots, Increment = p.Increment, Branch = p.Branch,
             Stability = p.Stability == Engine.Continuation.Stability.Stable ? Proto.Stability.Stable : Proto.Stability.Unstable,
             State = p.State is null ? null : ToState(p.State),
         };
@@ -54,7 +56,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
     {
         var m = new Proto.CriticalPoint
         {
-            Sequence = c.Sequence,
+            Sequence = c.Sequence, Branch = c.Branch,
             Kind = c.Kind == CriticalPointKind.LimitPoint ? Proto.CriticalPointKind.LimitPoint : Proto.CriticalPointKind.Bifurcation,
             LoadFactor = c.LoadFactor, LoadFactorBefore = c.LoadFactorBefore, LoadFactorAfter = c.LoadFactorAfter,
             PointBefore = c.PointBefore, PointAfter = c.PointAfter,
@@ -69,22 +71,26 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
 
     public Proto.PathSummary ToSummary(PathSummary s) => new()
     {
-        Reason = s.Reason switch
-        {
-            StopReason.TargetLoadFactorReached => Proto.StopReason.TargetLoadFactorReached,
-            StopReason.TargetDisplacementReached => Proto.StopReason.TargetDisplacementReached,
-            StopReason.PointLimitReached => Proto.StopReason.PointLimitReached,
-            StopReason.CriticalPointReached => Proto.StopReason.CriticalPointReached,
-            StopReason.Cancelled => Proto.StopReason.Cancelled,
-            StopReason.WallTimeExceeded => Proto.StopReason.WallTimeExceeded,
-            StopReason.Diverged => Proto.StopReason.Diverged,
-            StopReason.InitialStateFailed => Proto.StopReason.InitialStateFailed,
-            _ => Proto.StopReason.Unspecified,
-        },
+        Reason = ToReason(s.Reason), Branches = s.Branches,
         Message = s.Message, Completed = s.Completed, MaxLoadFactor = s.MaxLoadFactor, FinalLoadFactor = s.FinalLoadFactor,
         Points = s.Points, Steps = s.Steps, Iterations = s.Iterations, Cuts = s.Cuts, Factorizations = s.Factorizations,
         FactorizationTime = Duration.FromTimeSpan(s.FactorizationTime), WallTime = Duration.FromTimeSpan(s.WallTime),
         CriticalPoints = s.CriticalPoints.Count, Units = ModelMapper.ToUnits(model.Units),
+    };
+
+    public static Proto.StopReason ToReason(StopReason r) => r switch
+    {
+        StopReason.TargetLoadFactorReached => Proto.StopReason.TargetLoadFactorReached,
+        StopReason.TargetDisplacementReached => Proto.StopReason.TargetDisplacementReached,
+        StopReason.PointLimitReached => Proto.StopReason.PointLimitReached,
+        StopReason.CriticalPointReached => Proto.StopReason.CriticalPointReached,
+        StopReason.Cancelled => Proto.StopReason.Cancelled,
+        StopReason.WallTimeExceeded => Proto.StopReason.WallTimeExceeded,
+        StopReason.Diverged => Proto.StopReason.Diverged,
+        StopReason.InitialStateFailed => Proto.StopReason.InitialStateFailed,
+        StopReason.BranchPointsReached => Proto.StopReason.BranchPointsReached,
+        StopReason.BranchNotFound => Proto.StopReason.BranchNotFound,
+        _ => Proto.StopReason.Unspecified,
     };
 
     /// <summary>Full state from per-node displacements and reactions and per-bar forces and strains; spring forces are derived here.</summary>
