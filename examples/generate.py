@@ -62,7 +62,8 @@ def market_hall_dome():
         "model": {"name": "market-hall dome", "units": {"force": "kN", "length": "m"},
                   "nodes": nodes, "bars": bars, "supports": supports},
         "loadCase": {"reference": loads},
-        "controls": {"method": "CONTINUATION_METHOD_ARC_LENGTH", "initialLoadIncrement": 0.5, "maxPoints": 80,
+        "controls": {"method": "CONTINUATION_METHOD_ARC_LENGTH", "initialLoadIncrement": 0.25, "maxPoints": 120,
+                     "targetLoadFactor": 5.0,
                      "monitored": [{"node": "crown", "direction": "DIRECTION_Z"}, {"node": "R1-00", "direction": "DIRECTION_Z"}],
                      "fullStateEvery": 10},
     }

@@ -13,8 +13,14 @@ internal static class Pictures
         string force = Unit(request.Model?.Units?.Force, "kN");
         var first = rec.Points.FirstOrDefault(p => p.Monitored.Count > which);
         string dof = first is null ? "(no monitored displacement)" : $"{first.Monitored[which].Node}.{PathRecorder.Axis(first.Monitored[which].Direction)}";
-        var points = rec.Points.Where(p => p.Monitored.Count > which)
-            .Select(p => new CurvePoint(p.Monitored[which].Value, p.LoadFactor, p.Stability == Stability.Stable)).ToList();
+        // Critical points are equilibrium points too: draw the curve through them, between their bracketing points.
+        var points = new List<CurvePoint>();
+        foreach (var p in rec.Points.Where(p => p.Monitored.Count > which))
+        {
+            points.Add(new CurvePoint(p.Monitored[which].Value, p.LoadFactor, p.Stability == Stability.Stable));
+            foreach (var c in rec.Criticals.Where(c => c.PointBefore == p.Index && c.Monitored.Count > which))
+                points.Add(new CurvePoint(c.Monitored[which].Value, c.LoadFactor, p.Stability == Stability.Stable));
+        }
         var markers = rec.Criticals.Where(c => c.Monitored.Count > which).Select(c => new CurveMarker(c.Monitored[which].Value, c.LoadFactor,
             c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation",
             $"{(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation")} λ = {c.LoadFactor:G5}")).ToList();

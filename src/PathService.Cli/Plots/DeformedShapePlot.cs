@@ -35,7 +35,7 @@ internal static class DeformedShapePlot
         svg.Text(Margin, 46, $"displacements × {scale:G3} (largest {maxDisp:G3} {input.LengthUnit}); tension blue, compression red", 11, cls: "scale-note");
         Panel(svg, input, deformed, 0, 1, Margin, "plan (x–y)");
         Panel(svg, input, deformed, 0, 2, 2 * Margin + PanelW, "elevation (x–z)");
-        svg.Text(Margin, height - 14, input.Caution, 9.5, cls: "caution", fill: "#666666");
+        svg.Text(Margin, height - 14, input.Caution, 8.5, cls: "caution", fill: "#666666");
         return svg.ToString();
     }
 

@@ -65,6 +65,7 @@ internal static class LoadDisplacementPlot
         foreach (var p in pts)
             svg.Raw($"<circle class=\"path-point\" cx=\"{SvgWriter.F(X(p.Displacement))}\" cy=\"{SvgWriter.F(Y(p.LoadFactor))}\" r=\"2\" fill=\"{(p.Stable ? StableColour : UnstableColour)}\"/>");
 
+        var placed = new List<(double X, double Y, double W)>();
         foreach (var m in input.Markers)
         {
             double cx = X(m.Displacement), cy = Y(m.LoadFactor);
@@ -72,7 +73,14 @@ internal static class LoadDisplacementPlot
                 ? $"<polygon class=\"critical-point critical-limit\" points=\"{SvgWriter.F(cx)},{SvgWriter.F(cy - 8)} {SvgWriter.F(cx + 8)},{SvgWriter.F(cy)} {SvgWriter.F(cx)},{SvgWriter.F(cy + 8)} {SvgWriter.F(cx - 8)},{SvgWriter.F(cy)}\" fill=\"{LimitColour}\" stroke=\"#ffffff\"><title>{SvgWriter.Escape(m.Label)}</title></polygon>"
                 : $"<polygon class=\"critical-point critical-bifurcation\" points=\"{SvgWriter.F(cx)},{SvgWriter.F(cy - 9)} {SvgWriter.F(cx + 8)},{SvgWriter.F(cy + 6)} {SvgWriter.F(cx - 8)},{SvgWriter.F(cy + 6)}\" fill=\"{BifurcationColour}\" stroke=\"#ffffff\"><title>{SvgWriter.Escape(m.Label)}</title></polygon>";
             svg.Raw(shape);
-            svg.Text(cx + 10, cy - 8, m.Label, 10, cls: "critical-label");
+            // Labels that would overlap an earlier one move down a line, or are left to the marker's tooltip.
+            double w = 5.6 * m.Label.Length, ty = cy - 8;
+            for (int tries = 0; tries < 4 && placed.Any(p => Math.Abs(p.Y - ty) < 12 && cx + 10 < p.X + p.W && p.X < cx + 10 + w); tries++) ty += 12;
+            if (!placed.Any(p => Math.Abs(p.Y - ty) < 12 && cx + 10 < p.X + p.W && p.X < cx + 10 + w))
+            {
+                svg.Text(cx + 10, ty, m.Label, 10, cls: "critical-label");
+                placed.Add((cx + 10, ty, w));
+            }
         }
 
         // Legend.
@@ -85,7 +93,7 @@ internal static class LoadDisplacementPlot
         svg.Text(lx + 38, ly + 48, "limit point", 12);
         svg.Raw($"<polygon points=\"{SvgWriter.F(lx + 15)},{SvgWriter.F(ly + 57)} {SvgWriter.F(lx + 23)},{SvgWriter.F(ly + 72)} {SvgWriter.F(lx + 7)},{SvgWriter.F(ly + 72)}\" fill=\"{BifurcationColour}\"/>");
         svg.Text(lx + 38, ly + 70, "bifurcation", 12);
-        svg.Text(Left, H - 8, input.Caution, 9.5, cls: "caution", fill: "#666666");
+        svg.Text(20, H - 8, input.Caution, 8.5, cls: "caution", fill: "#666666");
         return svg.ToString();
     }
 }

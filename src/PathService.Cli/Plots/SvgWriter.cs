@@ -56,6 +56,8 @@ internal static class NiceScale
     public static string Label(double v, double step)
     {
         int decimals = Math.Max(0, (int)-Math.Floor(Math.Log10(step) + 1e-9));
-        return Math.Round(v, Math.Min(decimals, 12)).ToString("F" + Math.Min(decimals, 12), CultureInfo.InvariantCulture);
+        double r = Math.Round(v, Math.Min(decimals, 12));
+        if (Math.Abs(r) < step * 1e-9) r = 0; // no "-0.0"
+        return r.ToString("F" + Math.Min(decimals, 12), CultureInfo.InvariantCulture);
     }
 }
