@@ -3,7 +3,7 @@
 //
 // Layout (square-on-square offset grid): m x m top nodes on a square grid of
 // spacing a, (m-1) x (m-1) bottom nodes under the centres of the top cells at
-// depth h. Bars: top chords between neighbouring top nodes (x and y), bottom
+// depth h (span/20). Bars: top chords between neighbouring top nodes (x and y), bottom
 // chords between neighbouring bottom nodes, and four diagonals from every
 // bottom node to the corners of its top cell. The top surface has a shallow
 // camber (a product of parabolas, zero at the perimeter, rise f at the centre)
@@ -25,16 +25,16 @@ public sealed record RoofParameters
     public int M { get; init; } = 10;
     /// <summary>Grid spacing (m).</summary>
     public double Spacing { get; init; } = 2.0;
-    /// <summary>Depth between the layers (m).</summary>
-    public double Depth { get; init; } = 1.5;
+    /// <summary>Depth between the layers as a fraction of the span (span/20 by default, at least one bay's half).</summary>
+    public double DepthRatio { get; init; } = 0.05;
     /// <summary>Rise of the camber at the centre as a fraction of the span.</summary>
-    public double RiseRatio { get; init; } = 0.02;
+    public double RiseRatio { get; init; } = 0.04;
     /// <summary>Young's modulus (kN/m²).</summary>
     public double Modulus { get; init; } = 2.0e8;
     public double ChordArea { get; init; } = 2.0e-3;
     public double DiagonalArea { get; init; } = 1.0e-3;
     /// <summary>Downward reference load per free top node (kN).</summary>
-    public double NodalLoad { get; init; } = 100.0;
+    public double NodalLoad { get; init; } = 10.0;
 }
 
 /// <summary>Builds shallow double-layer space-truss roofs as engine model definitions.</summary>
@@ -52,7 +52,7 @@ public static class SpaceTrussRoof
     {
         int m = p.M;
         if (m < 3) throw new ArgumentOutOfRangeException(nameof(p), "the roof needs at least 3 top nodes per side");
-        double a = p.Spacing, span = (m - 1) * a, rise = p.RiseRatio * span;
+        double a = p.Spacing, span = (m - 1) * a, rise = p.RiseRatio * span, depth = Math.Max(0.5 * a, p.DepthRatio * span);
 
         // Camber z(x, y) = f (1 - ξ²)(1 - η²) with ξ, η in [-1, 1] across the span.
         double Camber(double x, double y)
@@ -72,7 +72,7 @@ public static class SpaceTrussRoof
             for (int j = 0; j < m - 1; j++)
             {
                 double x = (i + 0.5) * a, y = (j + 0.5) * a;
-                nodes.Add(new NodeDefinition(BottomId(i, j), x, y, Camber(x, y) - p.Depth));
+                nodes.Add(new NodeDefinition(BottomId(i, j), x, y, Camber(x, y) - depth));
             }
 
         var bars = new List<BarDefinition>(2 * m * (m - 1) + 2 * (m - 1) * (m - 2) + 4 * (m - 1) * (m - 1));
