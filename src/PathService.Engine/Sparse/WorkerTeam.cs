@@ -3,7 +3,7 @@
 //
 // The helpers are preallocated IThreadPoolWorkItem objects queued with
 // UnsafeQueueUserWorkItem; the caller runs participant 0 itself and then waits
-// (spinning briefly, then blocking) until every helper has returned. Bodies
+// (spinning briefly, then blocking on a monitor) until every helper has returned. Bodies
 // share work through their own atomic counters, so a helper that starts late
 // simply finds nothing left. The first exception thrown by any participant is
 // rethrown on the caller after all have finished. Not re-entrant: one Run at a
@@ -20,7 +20,7 @@ internal interface ITeamWork
 internal sealed class WorkerTeam
 {
     private readonly Helper[] _helpers;
-    private readonly ManualResetEventSlim _done = new(false, 2000);
+    private readonly object _gate = new();
     private ITeamWork? _work;
     private int _pending;
     private Exception? _error;
@@ -46,7 +46,6 @@ internal sealed class WorkerTeam
         }
         _work = work;
         _error = null;
-        _done.Reset();
         Volatile.Write(ref _pending, participants - 1);
         for (int i = 0; i < participants - 1; i++)
             ThreadPool.UnsafeQueueUserWorkItem(_helpers[i], preferLocal: false);
@@ -58,14 +57,19 @@ internal sealed class WorkerTeam
         {
             Interlocked.CompareExchange(ref _error, e, null);
         }
-        if (Volatile.Read(ref _pending) != 0) _done.Wait();
+        var spin = new SpinWait();
+        while (Volatile.Read(ref _pending) != 0 && !spin.NextSpinWillYield) spin.SpinOnce();
+        if (Volatile.Read(ref _pending) != 0)
+            lock (_gate)
+                while (Volatile.Read(ref _pending) != 0) Monitor.Wait(_gate);
         _work = null;
         if (_error is { } err) throw new AggregateException(err);
     }
 
     private void Finished()
     {
-        if (Interlocked.Decrement(ref _pending) == 0) _done.Set();
+        if (Interlocked.Decrement(ref _pending) == 0)
+            lock (_gate) Monitor.PulseAll(_gate);
     }
 
     private sealed class Helper(WorkerTeam team, int participant) : IThreadPoolWorkItem
