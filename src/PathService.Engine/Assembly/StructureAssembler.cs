@@ -18,7 +18,8 @@ public enum TangentParts
 /// <summary>
 /// Builds the sparse pattern of the free-DOF tangent once per model, with element-to-slot maps so that
 /// assembly writes straight into the factor's input array without searching; then evaluates internal forces
-/// and tangents for any displacement state. Deterministic: elements are visited in model order.
+/// and tangents for any displacement state. Deterministic: every entry sums its element contributions in model
+/// order, whether the per-element work and the sums are shared among threads (large models) or not.
 /// </summary>
 public sealed class StructureAssembler
 {
@@ -26,6 +27,17 @@ public sealed class StructureAssembler
     private readonly int[] _barSlots;     // 21 upper-triangle slots of the 6×6 bar matrix per bar, -1 where a DOF is restrained
     private readonly int[] _groundSlots;  // one diagonal slot per ground spring, -1 when restrained
     private readonly int[] _linkSlots;    // 3 slots (ii, ij, jj) per link spring
+
+    // Gather form of the assembly (deterministic in parallel, same sums in the same order as the sequential loops):
+    // per bar the 6 block entries (tangent) or 3 force components are computed independently, then every slot
+    // (or DOF) adds its contributions in bar order. Code = 2 * (index into the per-bar buffer) + (1 if subtracted).
+    private readonly int[] _slotPtr, _slotCode;
+    private readonly int[] _dofPtr, _dofCode;
+    private readonly double[] _barBlock;   // 6 per bar
+    private readonly double[] _barForce;   // 3 per bar
+    private readonly WorkerTeam _team;
+    private readonly AssemblyWork _work;
+    private const int ParallelBarThreshold = 4000;
 
     public SymmetricPattern Pattern { get; }
     public StructuralModel Model => _m;
@@ -68,18 +80,53 @@ public sealed class StructureAssembler
             _linkSlots[3 * s + 1] = ei >= 0 && ej >= 0 ? Pattern.FindSlot(ei, ej) : -1;
             _linkSlots[3 * s + 2] = ej >= 0 ? Pattern.FindSlot(ej, ej) : -1;
         }
+
+        // Contributions of the bars to each slot, in the order of the sequential loop (bar, then t).
+        _slotPtr = new int[Pattern.NonZeroCount + 1];
+        for (int q = 0; q < _barSlots.Length; q++) if (_barSlots[q] >= 0) _slotPtr[_barSlots[q] + 1]++;
+        for (int q = 0; q < Pattern.NonZeroCount; q++) _slotPtr[q + 1] += _slotPtr[q];
+        _slotCode = new int[_slotPtr[Pattern.NonZeroCount]];
+        var fill = (int[])_slotPtr.Clone();
+        for (int b = 0; b < model.BarCount; b++)
+            for (int t = 0; t < 21; t++)
+            {
+                int slot = _barSlots[21 * b + t];
+                if (slot < 0) continue;
+                var (r, c) = Upper6[t];
+                int entry = 6 * b + BarKinematics.BlockEntry(r % 3, c % 3);
+                _slotCode[fill[slot]++] = 2 * entry + ((r < 3) == (c < 3) ? 0 : 1);
+            }
+        // Contributions of the bars to each full DOF: start node subtracts, end node adds.
+        int fullCount = 3 * model.NodeCount;
+        _dofPtr = new int[fullCount + 1];
+        for (int b = 0; b < model.BarCount; b++)
+            for (int k = 0; k < 3; k++) { _dofPtr[3 * model.BarStart[b] + k + 1]++; _dofPtr[3 * model.BarEnd[b] + k + 1]++; }
+        for (int d = 0; d < fullCount; d++) _dofPtr[d + 1] += _dofPtr[d];
+        _dofCode = new int[_dofPtr[fullCount]];
+        fill = (int[])_dofPtr.Clone();
+        for (int b = 0; b < model.BarCount; b++)
+            for (int k = 0; k < 3; k++)
+            {
+                _dofCode[fill[3 * model.BarStart[b] + k]++] = 2 * (3 * b + k) + 1;
+                _dofCode[fill[3 * model.BarEnd[b] + k]++] = 2 * (3 * b + k);
+            }
+        _barBlock = new double[6 * model.BarCount];
+        _barForce = new double[3 * model.BarCount];
+        _team = new WorkerTeam(model.BarCount >= ParallelBarThreshold ? Environment.ProcessorCount : 1);
+        _work = new AssemblyWork(this);
     }
 
     private int BarDof(int bar, int local) => 3 * (local < 3 ? _m.BarStart[bar] : _m.BarEnd[bar]) + local % 3;
 
     /// <summary>Internal force vector f_int(u) over all DOFs (restrained ones included: they give the reactions).</summary>
-    public void InternalForce(ReadOnlySpan<double> displacement, Span<double> force)
+    public unsafe void InternalForce(ReadOnlySpan<double> displacement, Span<double> force)
     {
-        force.Clear();
-        for (int b = 0; b < _m.BarCount; b++)
+        fixed (double* pu = displacement, pf = force)
         {
-            var s = BarKinematics.Evaluate(_m.Coordinates, displacement, _m.BarStart[b], _m.BarEnd[b], _m.BarLength[b], _m.BarModulus[b], _m.BarInitialStress[b]);
-            BarKinematics.AddInternalForce(s, _m.BarArea[b], _m.BarLength[b], _m.BarStart[b], _m.BarEnd[b], force);
+            _work.Begin(AssemblyWork.Phase.BarForces, pu, pf, TangentParts.Consistent, null);
+            _team.Run(_work, _team.Threads);
+            _work.Begin(AssemblyWork.Phase.GatherForces, pu, pf, TangentParts.Consistent, null);
+            _team.Run(_work, _team.Threads);
         }
         for (int s = 0; s < _m.GroundSpringStiffness.Length; s++)
             force[_m.GroundSpringDof[s]] += _m.GroundSpringStiffness[s] * displacement[_m.GroundSpringDof[s]];
@@ -96,33 +143,16 @@ public sealed class StructureAssembler
     /// Assembles the free-DOF tangent into <paramref name="values"/> (aligned with <see cref="Pattern"/>).
     /// For <see cref="TangentParts.GeometricOnly"/>, <paramref name="barStress"/> gives each bar's stress S.
     /// </summary>
-    public void Tangent(ReadOnlySpan<double> displacement, Span<double> values, TangentParts parts = TangentParts.Consistent, ReadOnlySpan<double> barStress = default)
+    public unsafe void Tangent(ReadOnlySpan<double> displacement, Span<double> values, TangentParts parts = TangentParts.Consistent, ReadOnlySpan<double> barStress = default)
     {
-        values.Clear();
-        Span<double> k6 = stackalloc double[6];
-        for (int b = 0; b < _m.BarCount; b++)
+        if (values.Length != Pattern.NonZeroCount)
+            throw new ArgumentException($"Expected {Pattern.NonZeroCount} values aligned with the pattern, got {values.Length}.", nameof(values));
+        fixed (double* pu = displacement, pv = values, ps = barStress)
         {
-            double L0 = _m.BarLength[b], A = _m.BarArea[b];
-            var s = BarKinematics.Evaluate(_m.Coordinates, displacement, _m.BarStart[b], _m.BarEnd[b], L0, _m.BarModulus[b], _m.BarInitialStress[b]);
-            switch (parts)
-            {
-                case TangentParts.Consistent: BarKinematics.TangentBlock(s, _m.BarModulus[b], A, L0, true, k6); break;
-                case TangentParts.MaterialOnly: BarKinematics.TangentBlock(s, _m.BarModulus[b], A, L0, false, k6); break;
-                default:
-                    double g = barStress[b] * A / L0;
-                    k6.Clear(); k6[0] = g; k6[3] = g; k6[5] = g;
-                    break;
-            }
-            int baseSlot = 21 * b;
-            for (int t = 0; t < 21; t++)
-            {
-                int slot = _barSlots[baseSlot + t];
-                if (slot < 0) continue;
-                var (r, c) = Upper6[t];
-                double v = k6[BarKinematics.BlockEntry(r % 3, c % 3)];
-                // K = [k, −k; −k, k]: the sign flips between the start-node and end-node blocks.
-                values[slot] += (r < 3) == (c < 3) ? v : -v;
-            }
+            _work.Begin(AssemblyWork.Phase.BarBlocks, pu, pv, parts, ps);
+            _team.Run(_work, _team.Threads);
+            _work.Begin(AssemblyWork.Phase.GatherBlocks, pu, pv, parts, ps);
+            _team.Run(_work, _team.Threads);
         }
         if (parts == TangentParts.GeometricOnly) return;
         for (int s = 0; s < _groundSlots.Length; s++)
@@ -165,6 +195,106 @@ public sealed class StructureAssembler
                 y[i] += values[p] * x[j];
                 if (i != j) y[j] += values[p] * x[i];
             }
+    }
+
+    /// <summary>The two phases of each assembly, run over a static split of bars, slots or DOFs among the threads.</summary>
+    private sealed unsafe class AssemblyWork(StructureAssembler a) : ITeamWork
+    {
+        public enum Phase { BarBlocks, GatherBlocks, BarForces, GatherForces }
+
+        private Phase _phase;
+        private double* _u, _out, _stress;
+        private TangentParts _parts;
+        private int _participants;
+
+        public void Begin(Phase phase, double* u, double* output, TangentParts parts, double* stress)
+        {
+            _phase = phase; _u = u; _out = output; _parts = parts; _stress = stress;
+            _participants = a._team.Threads;
+        }
+
+        private static (int Start, int End) Range(int count, int part, int parts) =>
+            ((int)((long)count * part / parts), (int)((long)count * (part + 1) / parts));
+
+        public void Execute(int participant)
+        {
+            var m = a._m;
+            int fullCount = 3 * m.NodeCount;
+            var coordinates = m.Coordinates.AsSpan();
+            var u = new ReadOnlySpan<double>(_u, fullCount);
+            switch (_phase)
+            {
+                case Phase.BarBlocks:
+                {
+                    var (b0, b1) = Range(m.BarCount, participant, _participants);
+                    var blocks = a._barBlock.AsSpan();
+                    for (int b = b0; b < b1; b++)
+                    {
+                        double L0 = m.BarLength[b], A = m.BarArea[b];
+                        var k6 = blocks.Slice(6 * b, 6);
+                        var s = BarKinematics.Evaluate(coordinates, u, m.BarStart[b], m.BarEnd[b], L0, m.BarModulus[b], m.BarInitialStress[b]);
+                        switch (_parts)
+                        {
+                            case TangentParts.Consistent: BarKinematics.TangentBlock(s, m.BarModulus[b], A, L0, true, k6); break;
+                            case TangentParts.MaterialOnly: BarKinematics.TangentBlock(s, m.BarModulus[b], A, L0, false, k6); break;
+                            default:
+                                double g = _stress[b] * A / L0;
+                                k6.Clear(); k6[0] = g; k6[3] = g; k6[5] = g;
+                                break;
+                        }
+                    }
+                    break;
+                }
+                case Phase.GatherBlocks:
+                {
+                    var (q0, q1) = Range(a.Pattern.NonZeroCount, participant, _participants);
+                    int[] ptr = a._slotPtr, code = a._slotCode;
+                    double[] blocks = a._barBlock;
+                    for (int q = q0; q < q1; q++)
+                    {
+                        double v = 0;
+                        for (int p = ptr[q]; p < ptr[q + 1]; p++)
+                        {
+                            int c = code[p];
+                            double x = blocks[c >> 1];
+                            v += (c & 1) == 0 ? x : -x;
+                        }
+                        _out[q] = v;
+                    }
+                    break;
+                }
+                case Phase.BarForces:
+                {
+                    var (b0, b1) = Range(m.BarCount, participant, _participants);
+                    double[] f = a._barForce;
+                    for (int b = b0; b < b1; b++)
+                    {
+                        var s = BarKinematics.Evaluate(coordinates, u, m.BarStart[b], m.BarEnd[b], m.BarLength[b], m.BarModulus[b], m.BarInitialStress[b]);
+                        double c = m.BarArea[b] * s.Stress / m.BarLength[b];
+                        f[3 * b] = c * s.Dx; f[3 * b + 1] = c * s.Dy; f[3 * b + 2] = c * s.Dz;
+                    }
+                    break;
+                }
+                case Phase.GatherForces:
+                {
+                    var (d0, d1) = Range(fullCount, participant, _participants);
+                    int[] ptr = a._dofPtr, code = a._dofCode;
+                    double[] f = a._barForce;
+                    for (int d = d0; d < d1; d++)
+                    {
+                        double v = 0;
+                        for (int p = ptr[d]; p < ptr[d + 1]; p++)
+                        {
+                            int c = code[p];
+                            double x = f[c >> 1];
+                            v = (c & 1) == 0 ? v + x : v - x;
+                        }
+                        _out[d] = v;
+                    }
+                    break;
+                }
+            }
+        }
     }
 
     private static (int, int)[] BuildUpper6()

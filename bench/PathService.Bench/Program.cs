@@ -1,0 +1,18 @@
+// Bench command: trace (one arc-length trace of a generated roof with its cost breakdown), scaling (one
+// factorisation per roof size and ordering), kernels (BenchmarkDotNet micro-benchmarks).
+
+using PathService.Bench;
+
+var command = args.Length > 0 ? args[0] : "trace";
+var options = Options.Parse(args.Skip(1).ToArray());
+switch (command)
+{
+    case "trace": return TraceCommand.Run(options);
+    case "scaling": return ScalingCommand.Run(options);
+    case "kernels":
+        BenchmarkDotNet.Running.BenchmarkRunner.Run<Kernels>(args: args.Skip(1).ToArray());
+        return 0;
+    default:
+        Console.Error.WriteLine("usage: PathService.Bench trace [--m 60] [--points 30] [--threads N] | scaling [--sizes 10,20,40,60,80,120] | kernels [BenchmarkDotNet args]");
+        return 2;
+}

@@ -1,0 +1,111 @@
+using System.Diagnostics;
+using PathService.Bench.Models;
+using PathService.Engine.Assembly;
+using PathService.Engine.Continuation;
+using PathService.Engine.Model;
+using PathService.Engine.Sparse;
+
+namespace PathService.Bench;
+
+/// <summary>
+/// One arc-length trace of a fixed number of points on the m x m roof, timed end to end, then the cost of each
+/// part of an iteration measured on its own (assembly, residual, factorisation, solves).
+/// </summary>
+public static class TraceCommand
+{
+    public static int Run(Options o)
+    {
+        int m = o.Int("m", 60), points = o.Int("points", 30), repeats = o.Int("repeats", 5);
+        double increment = o.Double("increment", 0.05);
+        bool verbose = o.String("verbose", "false") == "true";
+        var process = Process.GetCurrentProcess();
+        Console.WriteLine($"machine: {Machine.Describe()}");
+
+        // The trace, first thing in the process so that the wall time below includes start-up and JIT.
+        var clock = Stopwatch.StartNew();
+        var model = StructuralModel.Create(SpaceTrussRoof.Create(m));
+        double buildTime = clock.Elapsed.TotalSeconds;
+        var controls = new SolverControls
+        {
+            Method = ContinuationMethod.ArcLength,
+            InitialLoadIncrement = increment,
+            MaxPoints = points,
+            Monitored = [new DofReference(SpaceTrussRoof.CentreNodeId(m), Axis.Z)],
+            DetectCriticalPoints = o.String("critical", "off") == "on",
+        };
+        long allocatedBefore = GC.GetTotalAllocatedBytes(true);
+        PathSummary? summary = null;
+        int critical = 0, cuts = 0;
+        double firstPoint = 0;
+        var traceClock = Stopwatch.StartNew();
+        foreach (var e in new PathTracer(model, controls).Trace())
+        {
+            switch (e)
+            {
+                case PathPoint p:
+                    if (p.Index == 0) firstPoint = traceClock.Elapsed.TotalSeconds;
+                    if (verbose) Console.WriteLine($"  point {p.Index,3}  λ = {p.LoadFactor,10:G6}  w = {p.Monitored[0],10:G5}  its {p.Iterations}  neg {p.NegativePivots}");
+                    break;
+                case CriticalPoint c:
+                    critical++;
+                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}");
+                    break;
+                case StepCut c:
+                    cuts++;
+                    if (verbose) Console.WriteLine($"  cut: step {c.Step} attempt {c.Attempt} {c.Reason} after {c.Iterations} iterations");
+                    break;
+                case PathSummary sum:
+                    summary = sum;
+                    break;
+            }
+        }
+        double traceWall = traceClock.Elapsed.TotalSeconds;
+        double processWall = (DateTime.Now - process.StartTime).TotalSeconds;
+        long allocated = GC.GetTotalAllocatedBytes(true) - allocatedBefore;
+        process.Refresh();
+        long peakAfterTrace = process.PeakWorkingSet64;
+        var s = summary!;
+        int iterations = s.Iterations;
+        int converged = s.Points - 1;
+
+        // Parts of an iteration, measured alone on the same model.
+        clock.Restart();
+        var asm = new StructureAssembler(model);
+        double assemblerSetup = clock.Elapsed.TotalSeconds;
+        var symbolic = LdlSymbolic.Analyze(asm.Pattern);
+        clock.Restart();
+        var factor = new SupernodalLdlFactorization(symbolic);
+        double supernodalSetup = clock.Elapsed.TotalSeconds;
+        var values = new double[asm.Pattern.NonZeroCount];
+        var u = new double[3 * model.NodeCount];
+        var force = new double[3 * model.NodeCount];
+        double tTangent = Measure.MedianSeconds(() => asm.Tangent(u, values), repeats);
+        double tForce = Measure.MedianSeconds(() => asm.InternalForce(u, force), repeats);
+        double tFactor = Measure.MedianSeconds(() => factor.Factorize(values), repeats);
+        var b1 = new double[asm.Pattern.Size];
+        var b2 = new double[asm.Pattern.Size];
+        model.Dofs.Gather(model.ReferenceLoad, b1);
+        double tSolve = Measure.MedianSeconds(() => factor.Solve(b1), repeats);
+        double tSolve2 = Measure.MedianSeconds(() => factor.Solve2(b1, b2), repeats);
+        double flops = symbolic.FactorFlopCount;
+        long nnzFull = 2L * asm.Pattern.NonZeroCount - asm.Pattern.Size;
+
+        Console.WriteLine($"model: double-layer roof m = {m}: {model.NodeCount} nodes, {model.BarCount} bars, {asm.Pattern.Size} DOFs");
+        Console.WriteLine($"tangent: {asm.Pattern.NonZeroCount} stored (upper) nonzeros, {nnzFull} in the full matrix");
+        Console.WriteLine($"factor: nnz(L) = {symbolic.FactorNonZeroCount} (AMD), {factor.StoredEntryCount} stored in {factor.SupernodeCount} supernodes, largest front {factor.MaxFrontSize}");
+        Console.WriteLine($"ordering (AMD) {Measure.Ms(symbolic.OrderingTime.TotalSeconds)}, symbolic {Measure.Ms(symbolic.SymbolicTime.TotalSeconds)}, supernodal analysis {Measure.Ms(supernodalSetup)}, assembler set-up {Measure.Ms(assemblerSetup)}");
+        Console.WriteLine($"numeric factorisation {Measure.Ms(tFactor)}  ({flops:E3} flops, {flops / tFactor / 1e9:F2} GFlop/s, {factor.Threads} threads, {factor.TaskCount} subtree tasks)");
+        Console.WriteLine($"assembly: tangent {Measure.Ms(tTangent)}, internal force {Measure.Ms(tForce)}; solve 1 rhs {Measure.Ms(tSolve)}, 2 rhs {Measure.Ms(tSolve2)}");
+        double rest2 = tTangent + tForce + 2 * tSolve, rest1 = tTangent + tForce + tSolve2;
+        Console.WriteLine($"per iteration besides the factorisation: {Measure.Ms(rest2)} = {100 * rest2 / tFactor:F0} % of it with two solves, {Measure.Ms(rest1)} = {100 * rest1 / tFactor:F0} % with Solve2");
+        Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}, first load increment {increment}");
+        Console.WriteLine($"trace: {s.Points} points ({converged} converged after the start), {s.Steps} steps, {cuts} cuts, {critical} critical points, stop: {s.Reason}");
+        Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
+        Console.WriteLine($"  factorisation time {s.FactorizationTime.TotalSeconds:F2} s ({s.FactorizationTime.TotalSeconds / Math.Max(1, s.Factorizations) * 1000:F1} ms each), rest {traceWall - s.FactorizationTime.TotalSeconds:F2} s");
+        Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s");
+        Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB ({allocated / Math.Max(1, iterations) / 1e3:F1} kB per iteration, points and events included)");
+        var gc = GC.GetGCMemoryInfo();
+        Console.WriteLine($"memory: peak working set {peakAfterTrace / 1e6:F0} MB after the trace; factor arrays {factor.MemoryBytes / 1e6:F0} MB; GC heap {gc.HeapSizeBytes / 1e6:F0} MB, collections gen0/1/2 {GC.CollectionCount(0)}/{GC.CollectionCount(1)}/{GC.CollectionCount(2)}");
+        return s.Completed ? 0 : 1;
+    }
+}
