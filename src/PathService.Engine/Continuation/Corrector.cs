@@ -56,13 +56,15 @@ internal sealed class Corrector(EquilibriumSystem sys)
             if (sys.Refactor(u) == LdlStatus.ZeroPivot)
                 return Fail(CutReason.SingularTangent, "exactly singular tangent during iteration");
             for (int e = 0; e < _r.Length; e++) _dur[e] = -_r[e];
-            sys.Factor.Solve(_dur);
             double dl = 0;
             if (c.Kind != ConstraintKind.Load)
             {
-                sys.Factor.Solve(sys.ReferenceFree, _dut);
+                // Both right-hand sides in one pass over the factor (the solves are memory-bound).
+                Array.Copy(sys.ReferenceFree, _dut, _dut.Length);
+                sys.Factor.Solve2(_dur, _dut);
                 if (!TryLoadCorrection(c, dU, dLam, out dl)) return Fail(CutReason.ComplexRoots, "the arc-length constraint has no real root");
             }
+            else sys.Factor.Solve(_dur);
             // δu = δu_r + δλ δu_t, applied to the state and to the step increment.
             for (int e = 0; e < _tmp.Length; e++)
             {
