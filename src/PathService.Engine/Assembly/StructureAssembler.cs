@@ -39,6 +39,12 @@ public sealed class StructureAssembler
     private readonly AssemblyWork _work;
     private const int ParallelBarThreshold = 4000;
 
+    /// <summary>
+    /// Committed plastic strain of each bar (zero unless bars can yield): the material history of the last converged
+    /// point. Iterations evaluate trial states from it; <see cref="CommitMaterialState"/> stores a converged state.
+    /// </summary>
+    public double[] PlasticStrain { get; }
+
     public SymmetricPattern Pattern { get; }
     public StructuralModel Model => _m;
 
@@ -48,6 +54,7 @@ public sealed class StructureAssembler
     public StructureAssembler(StructuralModel model)
     {
         _m = model;
+        PlasticStrain = new double[model.BarCount];
         var eq = model.Dofs.EquationOf;
         var entries = new List<(int, int)>(model.BarCount * 21 + 16);
         for (int b = 0; b < model.BarCount; b++)
@@ -170,7 +177,7 @@ public sealed class StructureAssembler
     public void BarStresses(ReadOnlySpan<double> displacement, Span<double> stress)
     {
         for (int b = 0; b < _m.BarCount; b++)
-            stress[b] = BarKinematics.Evaluate(_m.Coordinates, displacement, _m.BarStart[b], _m.BarEnd[b], _m.BarLength[b], _m.BarModulus[b], _m.BarInitialStress[b]).Stress;
+            stress[b] = BarKinematics.Evaluate(_m, displacement, b, PlasticStrain[b]).Stress;
     }
 
     /// <summary>Axial force N = A0 S ℓ/L0 of every bar (tension positive).</summary>
@@ -178,9 +185,18 @@ public sealed class StructureAssembler
     {
         for (int b = 0; b < _m.BarCount; b++)
         {
-            var s = BarKinematics.Evaluate(_m.Coordinates, displacement, _m.BarStart[b], _m.BarEnd[b], _m.BarLength[b], _m.BarModulus[b], _m.BarInitialStress[b]);
+            var s = BarKinematics.Evaluate(_m, displacement, b, PlasticStrain[b]);
             force[b] = BarKinematics.AxialForce(s, _m.BarArea[b], _m.BarLength[b]);
         }
+    }
+
+    /// <summary>Stores the plastic strain of the state <paramref name="displacement"/> as the committed material history.</summary>
+    public void CommitMaterialState(ReadOnlySpan<double> displacement)
+    {
+        if (!_m.HasMemberLaws) return;
+        var next = new double[_m.BarCount];
+        for (int b = 0; b < _m.BarCount; b++) next[b] = BarKinematics.Evaluate(_m, displacement, b, PlasticStrain[b]).PlasticStrain;
+        next.CopyTo(PlasticStrain, 0);
     }
 
     /// <summary>Symmetric matrix-vector product y = K x for a values array on <see cref="Pattern"/> (free DOFs).</summary>
@@ -220,7 +236,6 @@ public sealed class StructureAssembler
         {
             var m = a._m;
             int fullCount = 3 * m.NodeCount;
-            var coordinates = m.Coordinates.AsSpan();
             var u = new ReadOnlySpan<double>(_u, fullCount);
             switch (_phase)
             {
@@ -232,11 +247,11 @@ public sealed class StructureAssembler
                     {
                         double L0 = m.BarLength[b], A = m.BarArea[b];
                         var k6 = blocks.Slice(6 * b, 6);
-                        var s = BarKinematics.Evaluate(coordinates, u, m.BarStart[b], m.BarEnd[b], L0, m.BarModulus[b], m.BarInitialStress[b]);
+                        var s = BarKinematics.Evaluate(m, u, b, a.PlasticStrain[b]);
                         switch (_parts)
                         {
-                            case TangentParts.Consistent: BarKinematics.TangentBlock(s, m.BarModulus[b], A, L0, true, k6); break;
-                            case TangentParts.MaterialOnly: BarKinematics.TangentBlock(s, m.BarModulus[b], A, L0, false, k6); break;
+                            case TangentParts.Consistent: BarKinematics.TangentBlock(s, s.TangentModulus, A, L0, true, k6); break;
+                            case TangentParts.MaterialOnly: BarKinematics.TangentBlock(s, s.TangentModulus, A, L0, false, k6); break;
                             default:
                                 double g = _stress[b] * A / L0;
                                 k6.Clear(); k6[0] = g; k6[3] = g; k6[5] = g;
@@ -269,7 +284,7 @@ public sealed class StructureAssembler
                     double[] f = a._barForce;
                     for (int b = b0; b < b1; b++)
                     {
-                        var s = BarKinematics.Evaluate(coordinates, u, m.BarStart[b], m.BarEnd[b], m.BarLength[b], m.BarModulus[b], m.BarInitialStress[b]);
+                        var s = BarKinematics.Evaluate(m, u, b, a.PlasticStrain[b]);
                         double c = m.BarArea[b] * s.Stress / m.BarLength[b];
                         f[3 * b] = c * s.Dx; f[3 * b + 1] = c * s.Dy; f[3 * b + 2] = c * s.Dz;
                     }

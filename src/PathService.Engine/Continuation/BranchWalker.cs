@@ -14,6 +14,7 @@ internal sealed class BranchWalker(TraceSession s)
     private readonly double[] _midpoint = new double[3 * s.Model.NodeCount];
     private double[]? _modeGuess;
     private double _minIncrement, _maxIncrement;
+    private readonly MemberMonitor _members = new(s.Model, s.Sys);
 
     public (StopReason Reason, string Message)? EndReason { get; private set; }
 
@@ -36,6 +37,7 @@ internal sealed class BranchWalker(TraceSession s)
         var c = s.Controls;
         var sys = s.Sys;
         int n = sys.FreeCount;
+        _members.Start(b.U, b.Lambda);
         while (true)
         {
             if (s.GlobalStop() is { } stop) { EndReason = stop; yield break; }
@@ -138,12 +140,21 @@ internal sealed class BranchWalker(TraceSession s)
                 }
                 if (c.SwitchBranches && b.Id == 0 && cp.Kind == CriticalPointKind.Bifurcation && cp.Located)
                 {
+                    sys.Assembler.CommitMaterialState(b.U);
+                    var history = (double[])sys.Assembler.PlasticStrain.Clone();
                     foreach (var e in FollowSecondary(b, cp)) yield return e;
+                    history.CopyTo(sys.Assembler.PlasticStrain, 0);
                     if (EndReason is { } end && end.Reason is StopReason.Cancelled or StopReason.WallTimeExceeded or StopReason.PointLimitReached) yield break;
                     EndReason = null;
                     RefreshTangent(b);
                 }
             }
+
+            // The converged point becomes the material history (after any critical-point location, which worked from
+            // the previous point's history); then member checks.
+            foreach (var me in _members.Check(b.U, b.LastPointIndex, lambda, b.Id)) yield return me;
+            sys.Assembler.CommitMaterialState(b.U);
+            _members.RememberHistory(b.U);
 
             if (c.TargetLoadFactor is { } target && lambda >= target)
             { EndReason = (StopReason.TargetLoadFactorReached, $"reached the target load factor {target:G6} (λ = {lambda:G8})"); yield break; }

@@ -95,7 +95,7 @@ internal sealed class EquilibriumSystem
         var strains = new double[m.BarCount];
         Assembler.BarForces(u, forces);
         for (int b = 0; b < m.BarCount; b++)
-            strains[b] = Elements.BarKinematics.Evaluate(m.Coordinates, u, m.BarStart[b], m.BarEnd[b], m.BarLength[b], m.BarModulus[b], m.BarInitialStress[b]).Strain;
+            strains[b] = Elements.BarKinematics.Evaluate(m, u, b, Assembler.PlasticStrain[b]).Strain;
         var reactions = new double[3 * m.NodeCount];
         Assembler.InternalForce(u, _force);
         var eq = m.Dofs.EquationOf;

@@ -15,8 +15,9 @@ namespace PathService.Engine.Elements;
 /// </summary>
 public static class BarKinematics
 {
-    /// <summary>State of one bar at a displacement state.</summary>
-    public readonly record struct BarState(double Dx, double Dy, double Dz, double Strain, double Stress)
+    /// <summary>State of one bar at a displacement state; the tangent modulus and plastic strain come from its material law.</summary>
+    public readonly record struct BarState(double Dx, double Dy, double Dz, double Strain, double Stress,
+        double TangentModulus, double PlasticStrain = 0, BarRegime Regime = BarRegime.Elastic)
     {
         /// <summary>Current length ℓ = |x|.</summary>
         public double CurrentLength => Math.Sqrt(Dx * Dx + Dy * Dy + Dz * Dz);
@@ -33,7 +34,19 @@ public static class BarKinematics
         // cancellation of two nearly equal squared lengths for small strains.
         double l2 = X * X + Y * Y + Z * Z;
         double strain = (2 * (X * ux + Y * uy + Z * uz) + ux * ux + uy * uy + uz * uz) / (2 * l2);
-        return new BarState(X + ux, Y + uy, Z + uz, strain, modulus * strain + initialStress);
+        return new BarState(X + ux, Y + uy, Z + uz, strain, modulus * strain + initialStress, modulus);
+    }
+
+    /// <summary>
+    /// State of bar <paramref name="bar"/> of a model, with its material law applied (<see cref="BarMaterial"/>) from the
+    /// committed plastic strain.
+    /// </summary>
+    public static BarState Evaluate(Model.StructuralModel m, ReadOnlySpan<double> displacement, int bar, double committedPlasticStrain)
+    {
+        var s = Evaluate(m.Coordinates, displacement, m.BarStart[bar], m.BarEnd[bar], m.BarLength[bar], m.BarModulus[bar], m.BarInitialStress[bar]);
+        if (!m.HasMemberLaws) return s;
+        var (stress, et, ep, regime) = BarMaterial.Respond(m.BarBehaviour[bar], m.BarModulus[bar], m.BarInitialStress[bar], m.BarYieldStress[bar], s.Strain, committedPlasticStrain);
+        return s with { Stress = stress, TangentModulus = et, PlasticStrain = ep, Regime = regime };
     }
 
     /// <summary>

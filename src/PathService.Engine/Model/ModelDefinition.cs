@@ -14,6 +14,14 @@ public sealed record BarDefinition(string Id, string StartNode, string EndNode, 
 {
     /// <summary>Mass density (mass per unit volume in units consistent with force and length: t/m³ with kN and m); 0 = weightless.</summary>
     public double Density { get; init; }
+    /// <summary>Tension-only (cable), compression-only, or both (default).</summary>
+    public Elements.BarBehaviour Behaviour { get; init; }
+    /// <summary>Yield stress for elastic-perfectly-plastic behaviour, same in tension and compression; 0 = elastic throughout.</summary>
+    public double YieldStress { get; init; }
+    /// <summary>Second moment of area of the section for the Euler check π²EI/(KL)²; 0 = no buckling check.</summary>
+    public double SecondMoment { get; init; }
+    /// <summary>Effective-length factor K of the Euler check (1 for pin-ended members).</summary>
+    public double EffectiveLengthFactor { get; init; } = 1.0;
 }
 
 /// <summary>A linear spring from a node to the ground acting on one global direction (an elastic bearing).</summary>

@@ -132,6 +132,14 @@ public static class ModelValidator
                 findings.Add(Error(FindingCode.NonPositiveArea, $"{path}.area", id,
                     $"bar '{id}' has cross-section area {bar.Area}; it must be positive"));
             CheckNumber(bar.InitialStress, $"{path}.initial_stress", id, "initial stress", findings);
+            if (bar.Behaviour is not (Elements.BarBehaviour.Elastic or Elements.BarBehaviour.TensionOnly or Elements.BarBehaviour.CompressionOnly))
+                findings.Add(Error(FindingCode.InvalidDirection, $"{path}.behaviour", id, $"bar '{id}' has an unknown behaviour {(int)bar.Behaviour}"));
+            if (CheckNumber(bar.YieldStress, $"{path}.yield_stress", id, "yield stress", findings) && bar.YieldStress < 0)
+                findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.yield_stress", id, $"bar '{id}' has yield stress {bar.YieldStress}; give a positive value, or 0 for no yielding"));
+            if (CheckNumber(bar.SecondMoment, $"{path}.second_moment", id, "second moment of area", findings) && bar.SecondMoment < 0)
+                findings.Add(Error(FindingCode.NonPositiveArea, $"{path}.second_moment", id, $"bar '{id}' has second moment of area {bar.SecondMoment}; give a positive value, or 0 for no buckling check"));
+            if (CheckNumber(bar.EffectiveLengthFactor, $"{path}.effective_length_factor", id, "effective-length factor", findings) && bar.EffectiveLengthFactor <= 0)
+                findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.effective_length_factor", id, $"bar '{id}' has effective-length factor {bar.EffectiveLengthFactor}; it must be positive"));
             if (CheckNumber(bar.Density, $"{path}.density", id, "density", findings) && bar.Density < 0)
                 findings.Add(Error(FindingCode.NegativeDensity, $"{path}.density", id, $"bar '{id}' has density {bar.Density}; it must be zero or positive"));
         }

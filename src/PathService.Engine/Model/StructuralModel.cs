@@ -22,6 +22,14 @@ public sealed class StructuralModel
     public double[] BarArea { get; }
     public double[] BarInitialStress { get; }
     public double[] BarLength { get; }
+    public Elements.BarBehaviour[] BarBehaviour { get; }
+    public double[] BarYieldStress { get; }
+    public double[] BarSecondMoment { get; }
+    public double[] BarEffectiveLengthFactor { get; }
+    /// <summary>Whether any bar is tension- or compression-only or can yield (the material law then matters).</summary>
+    public bool HasMemberLaws { get; }
+    /// <summary>Whether any bar asks for a member check (yield stress or second moment of area given).</summary>
+    public bool HasMemberChecks { get; }
 
     public string[] GroundSpringIds { get; }
     public int[] GroundSpringDof { get; }
@@ -66,6 +74,12 @@ public sealed class StructuralModel
         BarModulus = def.Bars.Select(b => b.ElasticModulus).ToArray();
         BarArea = def.Bars.Select(b => b.Area).ToArray();
         BarInitialStress = def.Bars.Select(b => b.InitialStress).ToArray();
+        BarBehaviour = def.Bars.Select(b => b.Behaviour).ToArray();
+        BarYieldStress = def.Bars.Select(b => b.YieldStress).ToArray();
+        BarSecondMoment = def.Bars.Select(b => b.SecondMoment).ToArray();
+        BarEffectiveLengthFactor = def.Bars.Select(b => b.EffectiveLengthFactor).ToArray();
+        HasMemberLaws = def.Bars.Any(b => b.Behaviour != Elements.BarBehaviour.Elastic || b.YieldStress > 0);
+        HasMemberChecks = HasMemberLaws || def.Bars.Any(b => b.SecondMoment > 0);
         BarLength = new double[BarCount];
         for (int b = 0; b < BarCount; b++)
         {

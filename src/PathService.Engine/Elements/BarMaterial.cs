@@ -1,0 +1,47 @@
+namespace PathService.Engine.Elements;
+
+/// <summary>How a bar carries axial force.</summary>
+public enum BarBehaviour
+{
+    /// <summary>Tension and compression alike.</summary>
+    Elastic,
+    /// <summary>A cable or tie: no compression; it goes slack (zero force and stiffness) when its stress would fall below zero.</summary>
+    TensionOnly,
+    /// <summary>A strut that disengages in tension (e.g. a contact or a slender brace modelled as compression-only).</summary>
+    CompressionOnly,
+}
+
+/// <summary>The state a bar's material is in at a point of the path.</summary>
+public enum BarRegime { Elastic, Yielding, Slack }
+
+/// <summary>
+/// One-dimensional material law of a bar in the Total Lagrangian measures (2nd Piola-Kirchhoff stress S against
+/// Green-Lagrange strain ε): linear elastic with optional initial stress S0; elastic-perfectly-plastic with the same
+/// yield stress σy in tension and compression, by the return map of J. C. Simo and T. J. R. Hughes, "Computational
+/// Inelasticity", Springer 1998, §1.2 (its consistent tangent modulus is 0 while yielding); and tension-only or
+/// compression-only behaviour applied on top. Stating plasticity in (S, ε) is adequate for the moderate strains of
+/// metal lattices; it is not a finite-strain plasticity model.
+/// </summary>
+public static class BarMaterial
+{
+    /// <returns>Stress S, tangent modulus dS/dε, trial plastic strain and regime.</returns>
+    public static (double Stress, double TangentModulus, double PlasticStrain, BarRegime Regime) Respond(
+        BarBehaviour behaviour, double modulus, double initialStress, double yieldStress, double strain, double committedPlasticStrain)
+    {
+        double s = modulus * (strain - committedPlasticStrain) + initialStress;
+        double et = modulus, ep = committedPlasticStrain;
+        var regime = BarRegime.Elastic;
+        // On the surface counts as plastic, so a committed yielding state keeps its plastic tangent for the next step.
+        if (yieldStress > 0 && Math.Abs(s) >= yieldStress * (1 - 1e-12))
+        {
+            // Return map: the stress goes back to the yield surface; the excess strain becomes plastic.
+            s = Math.CopySign(yieldStress, s);
+            ep = strain - (s - initialStress) / modulus;
+            et = 0;
+            regime = BarRegime.Yielding;
+        }
+        if ((behaviour == BarBehaviour.TensionOnly && s <= 0) || (behaviour == BarBehaviour.CompressionOnly && s >= 0))
+            return (0, 0, committedPlasticStrain, BarRegime.Slack);
+        return (s, et, ep, regime);
+    }
+}
