@@ -12,6 +12,8 @@ commands
   linear <model>             small-displacement linear analysis   [--load-factor λ]
   buckling <model>           linearised buckling modes            [--modes N]
   batch <folder|glob>        trace every model concurrently       [--parallel N] [--table out.csv]
+  sweep <model>              knock-down curve over imperfection amplitudes
+                             --amplitudes a,b,c [--unit length|span] [--span S] [--modes 1,2] [--weights w1,w2] [--out DIR]
   demo                       trace the built-in market-hall dome  [--out DIR]
 
 where analyses run
@@ -48,6 +50,7 @@ try
         case "linear": return await UnaryCommands.LinearAsync(backend, RequestReader.Read(Model(o)), o, cts.Token);
         case "buckling": return await UnaryCommands.BucklingAsync(backend, RequestReader.Read(Model(o)), o, cts.Token);
         case "batch": return await BatchCommand.RunAsync(backend, Model(o), o, cts.Token);
+        case "sweep": return await SweepCommand.RunAsync(backend, RequestReader.Read(Model(o)), o, cts.Token);
         default: throw new UsageException($"unknown command '{o.Command}'");
     }
 }

@@ -19,6 +19,7 @@ internal sealed class GrpcBackend : IAnalysisBackend
 {
     private readonly GrpcChannel _channel;
     private readonly StructuralPathService.StructuralPathServiceClient _client;
+    private readonly ImperfectionStudyService.ImperfectionStudyServiceClient _study;
     private readonly int _retries;
 
     public string Description { get; }
@@ -45,6 +46,7 @@ internal sealed class GrpcBackend : IAnalysisBackend
             _channel = GrpcChannel.ForAddress("static:///pathservice", options);
         }
         _client = new StructuralPathService.StructuralPathServiceClient(_channel);
+        _study = new ImperfectionStudyService.ImperfectionStudyServiceClient(_channel);
     }
 
     public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct)
@@ -93,6 +95,17 @@ internal sealed class GrpcBackend : IAnalysisBackend
         TracePathResponse.UpdateOneofCase.CriticalPoint => r.CriticalPoint.PointAfter <= delivered,
         _ => false,
     };
+
+    public async IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, [EnumeratorCancellation] CancellationToken ct)
+    {
+        using var call = _study.SweepImperfections(request, cancellationToken: ct);
+        while (true)
+        {
+            try { if (!await call.ResponseStream.MoveNext(ct)) yield break; }
+            catch (RpcException ex) { throw Translate(ex); }
+            yield return call.ResponseStream.Current;
+        }
+    }
 
     public async Task<CheckModelResponse> CheckAsync(CheckModelRequest request, CancellationToken ct) =>
         await Unary(() => _client.CheckModelAsync(request, cancellationToken: ct).ResponseAsync);

@@ -10,6 +10,7 @@ internal interface IAnalysisBackend : IAsyncDisposable
     Task<CheckModelResponse> CheckAsync(CheckModelRequest request, CancellationToken ct);
     Task<AnalyzeLinearResponse> LinearAsync(AnalyzeLinearRequest request, CancellationToken ct);
     Task<FindBucklingModesResponse> BucklingAsync(FindBucklingModesRequest request, CancellationToken ct);
+    IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, CancellationToken ct);
 }
 
 /// <summary>A request the analysis refused (invalid input, a mechanism, a limit), with its findings.</summary>

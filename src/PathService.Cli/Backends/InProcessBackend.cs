@@ -15,6 +15,11 @@ internal sealed class InProcessBackend : IAnalysisBackend
     public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct)
     {
         var (model, controls) = Build(request.Model, request.LoadCase, request.Controls);
+        if (request.Imperfection is not null)
+        {
+            try { model = StructuralModel.Create(ImperfectionMapper.Apply(model.Definition, request.Imperfection)); }
+            catch (ModelValidationException ex) { throw Rejected(ex); }
+        }
         var mapper = new ResultMapper(model, controls.Monitored);
         IEnumerator<PathEvent> events;
         try { events = new PathTracer(model, controls).Trace(ct).GetEnumerator(); }
@@ -75,6 +80,55 @@ internal sealed class InProcessBackend : IAnalysisBackend
         catch (MechanismException ex) { throw Mechanism(ex); }
         catch (InvalidOperationException ex) { throw new AnalysisRejectedException(ex.Message, []); }
     }
+
+    public async IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, [EnumeratorCancellation] CancellationToken ct)
+    {
+        var (model, controls) = Build(request.Model, request.LoadCase, request.Controls);
+        var def = model.Definition;
+        if (request.Imperfection is null || request.Amplitudes.Count == 0)
+            throw new AnalysisRejectedException("a sweep needs an imperfection shape and at least one amplitude", []);
+        IReadOnlyList<double[]> shapes; IReadOnlyList<double> weights; List<double> amplitudes;
+        try
+        {
+            (shapes, weights) = ImperfectionMapper.Shapes(def, request.Imperfection);
+            amplitudes = request.Amplitudes.Select((a, i) => ImperfectionMapper.ToLength(def, request.Imperfection, a, $"amplitudes[{i}]")).ToList();
+        }
+        catch (ModelValidationException ex) { throw Rejected(ex); }
+        using var events = Engine.Stability.ImperfectionSweep.Run(def, controls, shapes, weights, amplitudes, ct).GetEnumerator();
+        while (await Task.Run(events.MoveNext, CancellationToken.None))
+        {
+            yield return events.Current switch
+            {
+                Engine.Stability.SweepReference r => new SweepImperfectionsResponse
+                {
+                    Reference = WithLoad(new Contracts.V1.SweepReference { Kind = Kind(r.Kind), Reason = ResultMapper.ToReason(r.Reason), Message = r.Message }, r.CriticalLoadFactor),
+                },
+                Engine.Stability.SweepResult x => new SweepImperfectionsResponse { Result = ToResult(x) },
+                _ => throw new NotSupportedException(),
+            };
+        }
+    }
+
+    private static Contracts.V1.SweepReference WithLoad(Contracts.V1.SweepReference r, double? load)
+    {
+        if (load is { } l) r.CriticalLoadFactor = l;
+        return r;
+    }
+
+    private static Contracts.V1.SweepResult ToResult(Engine.Stability.SweepResult s)
+    {
+        var m = new Contracts.V1.SweepResult { Index = s.Index, Amplitude = s.Amplitude, Kind = Kind(s.Kind), Reason = ResultMapper.ToReason(s.Reason), Message = s.Message, Points = s.Points };
+        if (s.CriticalLoadFactor is { } l) m.CriticalLoadFactor = l;
+        if (s.KnockDown is { } k) m.KnockDown = k;
+        return m;
+    }
+
+    private static Contracts.V1.CriticalPointKind Kind(Engine.Continuation.CriticalPointKind? k) => k switch
+    {
+        Engine.Continuation.CriticalPointKind.LimitPoint => Contracts.V1.CriticalPointKind.LimitPoint,
+        Engine.Continuation.CriticalPointKind.Bifurcation => Contracts.V1.CriticalPointKind.Bifurcation,
+        _ => Contracts.V1.CriticalPointKind.Unspecified,
+    };
 
     public ValueTask DisposeAsync() => ValueTask.CompletedTask;
 

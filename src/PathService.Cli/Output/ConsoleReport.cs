@@ -26,6 +26,16 @@ internal static class ConsoleReport
                 Console.WriteLine($"  >> {(c.Kind == CriticalPointKind.LimitPoint ? "limit point" : "bifurcation")} #{c.Sequence} at λ = {c.LoadFactor:G10} " +
                                   $"(between points {c.PointBefore} and {c.PointAfter}, load alignment {c.LoadAlignment:G3}{(c.Located ? "" : ", not fully located")})");
                 break;
+            case TracePathResponse.UpdateOneofCase.MemberEvent:
+                var me = r.MemberEvent;
+                Console.WriteLine($"  !! bar {me.Bar}: {me.Kind.ToString().ToLowerInvariant()} from λ ≈ {me.OnsetLoadFactor:G6} (axial force {me.AxialForce:G5})");
+                break;
+            case TracePathResponse.UpdateOneofCase.BranchStarted:
+                Console.WriteLine($"  => branch {r.BranchStarted.Branch} starts at bifurcation #{r.BranchStarted.CriticalPointSequence} (λ = {r.BranchStarted.LoadFactor:G8})");
+                break;
+            case TracePathResponse.UpdateOneofCase.BranchEnded:
+                Console.WriteLine($"  <= branch {r.BranchEnded.Branch} ended: {r.BranchEnded.Message}");
+                break;
             case TracePathResponse.UpdateOneofCase.StepCut:
                 Console.WriteLine($"  -- step {r.StepCut.Step} cut ({r.StepCut.Reason}): {r.StepCut.Detail}");
                 break;

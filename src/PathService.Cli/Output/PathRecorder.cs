@@ -11,6 +11,7 @@ internal sealed class PathRecorder
     public List<PathPoint> Points { get; } = [];
     public List<CriticalPoint> Criticals { get; } = [];
     public List<StepCut> Cuts { get; } = [];
+    public List<MemberEvent> MemberEvents { get; } = [];
     public PathSummary? Summary { get; private set; }
     private readonly List<string> _jsonLines = [];
     private static readonly JsonFormatter Json = new(JsonFormatter.Settings.Default.WithFormatDefaultValues(true));
@@ -24,6 +25,7 @@ internal sealed class PathRecorder
             case TracePathResponse.UpdateOneofCase.CriticalPoint: Criticals.Add(r.CriticalPoint); break;
             case TracePathResponse.UpdateOneofCase.StepCut: Cuts.Add(r.StepCut); break;
             case TracePathResponse.UpdateOneofCase.Summary: Summary = r.Summary; break;
+            case TracePathResponse.UpdateOneofCase.MemberEvent: MemberEvents.Add(r.MemberEvent); break;
         }
     }
 

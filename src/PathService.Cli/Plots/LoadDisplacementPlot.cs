@@ -69,6 +69,12 @@ internal static class LoadDisplacementPlot
         foreach (var m in input.Markers)
         {
             double cx = X(m.Displacement), cy = Y(m.LoadFactor);
+            if (m.Kind.StartsWith("member-", StringComparison.Ordinal))
+            {
+                // Member events: a small square outline, labelled only through its tooltip (there can be many).
+                svg.Raw($"<rect class=\"member-event {m.Kind}\" x=\"{SvgWriter.F(cx - 4)}\" y=\"{SvgWriter.F(cy - 4)}\" width=\"8\" height=\"8\" fill=\"none\" stroke=\"#444444\" stroke-width=\"1.4\"><title>{SvgWriter.Escape(m.Label)}</title></rect>");
+                continue;
+            }
             string shape = m.Kind == "limit"
                 ? $"<polygon class=\"critical-point critical-limit\" points=\"{SvgWriter.F(cx)},{SvgWriter.F(cy - 8)} {SvgWriter.F(cx + 8)},{SvgWriter.F(cy)} {SvgWriter.F(cx)},{SvgWriter.F(cy + 8)} {SvgWriter.F(cx - 8)},{SvgWriter.F(cy)}\" fill=\"{LimitColour}\" stroke=\"#ffffff\"><title>{SvgWriter.Escape(m.Label)}</title></polygon>"
                 : $"<polygon class=\"critical-point critical-bifurcation\" points=\"{SvgWriter.F(cx)},{SvgWriter.F(cy - 9)} {SvgWriter.F(cx + 8)},{SvgWriter.F(cy + 6)} {SvgWriter.F(cx - 8)},{SvgWriter.F(cy + 6)}\" fill=\"{BifurcationColour}\" stroke=\"#ffffff\"><title>{SvgWriter.Escape(m.Label)}</title></polygon>";
@@ -93,6 +99,11 @@ internal static class LoadDisplacementPlot
         svg.Text(lx + 38, ly + 48, "limit point", 12);
         svg.Raw($"<polygon points=\"{SvgWriter.F(lx + 15)},{SvgWriter.F(ly + 57)} {SvgWriter.F(lx + 23)},{SvgWriter.F(ly + 72)} {SvgWriter.F(lx + 7)},{SvgWriter.F(ly + 72)}\" fill=\"{BifurcationColour}\"/>");
         svg.Text(lx + 38, ly + 70, "bifurcation", 12);
+        if (input.Markers.Any(m => m.Kind.StartsWith("member-", StringComparison.Ordinal)))
+        {
+            svg.Raw($"<rect x=\"{SvgWriter.F(lx + 11)}\" y=\"{SvgWriter.F(ly + 84)}\" width=\"8\" height=\"8\" fill=\"none\" stroke=\"#444444\" stroke-width=\"1.4\"/>");
+            svg.Text(lx + 38, ly + 92, "member event", 12);
+        }
         svg.Text(20, H - 8, input.Caution, 8.5, cls: "caution", fill: "#666666");
         return svg.ToString();
     }

@@ -44,7 +44,20 @@ public static class ModelMapper
                 string.IsNullOrWhiteSpace(model.Units?.Force) ? defaults.Force : model.Units.Force,
                 string.IsNullOrWhiteSpace(model.Units?.Length) ? defaults.Length : model.Units.Length),
             Nodes = model.Nodes.Select(n => new NodeDefinition(n.Id, n.X, n.Y, n.Z)).ToArray(),
-            Bars = model.Bars.Select(b => new BarDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, b.Area, b.InitialStress) { Density = b.Density }).ToArray(),
+            Bars = model.Bars.Select(b => new BarDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, b.Area, b.InitialStress)
+            {
+                Density = b.Density,
+                Behaviour = b.Behaviour switch
+                {
+                    BarBehaviour.Unspecified or BarBehaviour.TensionAndCompression => Engine.Elements.BarBehaviour.Elastic,
+                    BarBehaviour.TensionOnly => Engine.Elements.BarBehaviour.TensionOnly,
+                    BarBehaviour.CompressionOnly => Engine.Elements.BarBehaviour.CompressionOnly,
+                    _ => (Engine.Elements.BarBehaviour)(-1), // reported by the validator
+                },
+                YieldStress = b.YieldStress,
+                SecondMoment = b.SecondMoment,
+                EffectiveLengthFactor = b.HasEffectiveLengthFactor ? b.EffectiveLengthFactor : 1.0,
+            }).ToArray(),
             GroundSprings = model.GroundSprings.Select(s => new GroundSpringDefinition(s.Id, s.Node, ToAxis(s.Direction), s.Stiffness)).ToArray(),
             LinkSprings = model.LinkSprings.Select(s => new LinkSpringDefinition(s.Id, s.StartNode, s.EndNode, ToAxis(s.Direction), s.Stiffness)).ToArray(),
             Supports = model.Supports.Select(s => new SupportDefinition(s.Node, ToAxis(s.Direction), s.PrescribedDisplacement)).ToArray(),

@@ -19,6 +19,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         CriticalPoint cp => new() { CriticalPoint = ToCritical(cp) },
         PathSummary s => new() { Summary = ToSummary(s) },
         BranchStarted b => new() { BranchStarted = new Proto.BranchStarted { Branch = b.Branch, FromBranch = b.FromBranch, CriticalPointSequence = b.CriticalPointSequence, LoadFactor = b.LoadFactor } },
+        MemberEvent me => new() { MemberEvent = ToMemberEvent(me) },
         BranchEnded b => new() { BranchEnded = new Proto.BranchEnded { Branch = b.Branch, Reason = ToReason(b.Reason), Message = b.Message } },
         _ => throw new NotSupportedException($"unknown path event {e.GetType().Name}"),
     };
@@ -76,6 +77,19 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         Points = s.Points, Steps = s.Steps, Iterations = s.Iterations, Cuts = s.Cuts, Factorizations = s.Factorizations,
         FactorizationTime = Duration.FromTimeSpan(s.FactorizationTime), WallTime = Duration.FromTimeSpan(s.WallTime),
         CriticalPoints = s.CriticalPoints.Count, Units = ModelMapper.ToUnits(model.Units),
+    };
+
+    public static Proto.MemberEvent ToMemberEvent(MemberEvent e) => new()
+    {
+        Kind = e.Kind switch
+        {
+            MemberEventKind.Yield => Proto.MemberEventKind.Yield,
+            MemberEventKind.Buckle => Proto.MemberEventKind.Buckle,
+            MemberEventKind.Slack => Proto.MemberEventKind.Slack,
+            _ => Proto.MemberEventKind.Unspecified,
+        },
+        Bar = e.BarId, Point = e.Point, LoadFactor = e.LoadFactor, AxialForce = e.AxialForce, Utilisation = e.Utilisation,
+        OnsetLoadFactor = e.OnsetLoadFactor, Branch = e.Branch,
     };
 
     public static Proto.StopReason ToReason(StopReason r) => r switch

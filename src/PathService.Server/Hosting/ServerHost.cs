@@ -58,6 +58,7 @@ public static class ServerHost
         app.UseMiddleware<RequestIdMiddleware>();
         app.UseSerilogRequestLogging();
         app.MapGrpcService<StructuralPathGrpcService>();
+        app.MapGrpcService<ImperfectionStudyGrpcService>();
         app.MapGrpcHealthChecksService();
         app.MapGrpcReflectionService();
         app.MapPathServiceTelemetry(options.Telemetry);

@@ -23,7 +23,7 @@ public sealed class StructuralPathGrpcService(
         RunAnalysis("TracePath", request.Model, async () =>
         {
             limits.CheckControls(request.Controls);
-            var model = BuildModel(request.Model, request.LoadCase);
+            var model = BuildModel(request.Model, request.LoadCase, request.Imperfection);
             var controls = ControlsMapper.ToControls(request.Controls, limits.DefaultMaxPoints, limits.MaxTraceTime);
             var summary = await streamer.StreamAsync(model, controls, responseStream, context.CancellationToken);
             if (summary is null) return "Cancelled";
@@ -154,12 +154,12 @@ public sealed class StructuralPathGrpcService(
         _ => null,
     };
 
-    private static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads)
+    private static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads, Imperfection? imperfection = null)
     {
         var definition = ModelMapper.ToDefinition(proto, loads);
         var findings = ModelValidator.Validate(definition);
         if (findings.Any(f => f.Severity == FindingSeverity.Error)) throw RpcErrors.Invalid(findings);
-        return StructuralModel.Create(definition);
+        return StructuralModel.Create(ImperfectionMapper.Apply(definition, imperfection));
     }
 
     private static string Truncate(string? s) => s is null ? "" : s.Length <= 64 ? s : s[..64];

@@ -1,0 +1,75 @@
+using System.Globalization;
+using System.Text;
+using PathService.Cli.Backends;
+using PathService.Cli.Output;
+using PathService.Cli.Plots;
+using PathService.Contracts.V1;
+
+namespace PathService.Cli.Commands;
+
+/// <summary>
+/// Knock-down sweep: the first critical load of the structure with imperfections of growing amplitude, shaped as
+/// buckling modes (--modes 1,2 --weights 1,0.5) and given as lengths or span fractions (--unit span; span/300 to
+/// span/500 is common practice, no source: check the governing code).
+/// </summary>
+internal static class SweepCommand
+{
+    public static async Task<int> RunAsync(IAnalysisBackend backend, TracePathRequest trace, Options o, CancellationToken ct)
+    {
+        var amplitudes = Numbers(o.Get("amplitudes") ?? throw new UsageException("sweep needs --amplitudes a,b,c"), "amplitudes");
+        var imperfection = new Imperfection
+        {
+            AmplitudeUnit = (o.Get("unit") ?? "length") switch
+            {
+                "length" => AmplitudeUnit.Length,
+                "span" => AmplitudeUnit.SpanFraction,
+                var u => throw new UsageException($"--unit must be 'length' or 'span', not '{u}'"),
+            },
+            DeclaredSpan = o.GetDouble("span") ?? 0,
+        };
+        imperfection.BucklingModes.AddRange(Numbers(o.Get("modes") ?? "1", "modes").Select(m => (int)m));
+        if (o.Get("weights") is { } w) imperfection.Weights.AddRange(Numbers(w, "weights"));
+        var request = new SweepImperfectionsRequest { Model = trace.Model, LoadCase = trace.LoadCase, Controls = trace.Controls, Imperfection = imperfection };
+        request.Amplitudes.AddRange(amplitudes);
+
+        double? perfect = null;
+        var rows = new List<SweepResult>();
+        Console.WriteLine($"imperfection sweep of '{trace.Model?.Name}' on {backend.Description}: modes {string.Join(",", imperfection.BucklingModes)}, unit {o.Get("unit") ?? "length"}");
+        await foreach (var r in backend.SweepAsync(request, ct))
+        {
+            if (r.UpdateCase == SweepImperfectionsResponse.UpdateOneofCase.Reference)
+            {
+                perfect = r.Reference.HasCriticalLoadFactor ? r.Reference.CriticalLoadFactor : null;
+                Console.WriteLine($"  perfect structure: {(perfect is { } p ? $"{r.Reference.Kind} at λ = {p:G8}" : $"no critical point ({r.Reference.Reason})")}");
+            }
+            else
+            {
+                var s = r.Result;
+                rows.Add(s);
+                Console.WriteLine($"  amplitude {s.Amplitude,12:G5}: {(s.HasCriticalLoadFactor ? $"{s.Kind} at λ = {s.CriticalLoadFactor:G8}, knock-down {(s.HasKnockDown ? s.KnockDown.ToString("F4", CultureInfo.InvariantCulture) : "-")}" : $"no critical point ({s.Reason})")}");
+            }
+        }
+        if (o.Get("out") is { } dir)
+        {
+            Directory.CreateDirectory(dir);
+            var csv = new StringBuilder("amplitude,critical_load_factor,kind,knock_down,stop_reason\n");
+            foreach (var s in rows)
+                csv.AppendLine(string.Join(',', s.Amplitude.ToString("R", CultureInfo.InvariantCulture),
+                    s.HasCriticalLoadFactor ? s.CriticalLoadFactor.ToString("R", CultureInfo.InvariantCulture) : "", s.Kind,
+                    s.HasKnockDown ? s.KnockDown.ToString("R", CultureInfo.InvariantCulture) : "", s.Reason));
+            File.WriteAllText(Path.Combine(dir, "knockdown.csv"), csv.ToString());
+            string length = string.IsNullOrWhiteSpace(trace.Model?.Units?.Length) ? "m" : trace.Model.Units.Length;
+            File.WriteAllText(Path.Combine(dir, "knockdown.svg"), KnockDownPlot.Render(new KnockDownInput(
+                $"{trace.Model?.Name}: imperfection sensitivity", $"imperfection amplitude [{length}]", perfect,
+                rows.Where(s => s.HasCriticalLoadFactor).Select(s => new KnockDownPoint(s.Amplitude, s.CriticalLoadFactor)).ToList(), Cautions.Short)));
+            Console.WriteLine($"wrote {Path.Combine(dir, "knockdown.csv")} and {Path.Combine(dir, "knockdown.svg")}");
+        }
+        Console.WriteLine(Cautions.Short);
+        return rows.Count == amplitudes.Count && rows.All(r => r.HasCriticalLoadFactor) ? ExitCodes.Success : ExitCodes.TargetNotReached;
+    }
+
+    private static List<double> Numbers(string text, string name) =>
+        text.Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries).Select(t =>
+            double.TryParse(t, NumberStyles.Float, CultureInfo.InvariantCulture, out double v) && double.IsFinite(v) ? v
+                : throw new UsageException($"--{name}: '{t}' is not a number")).ToList();
+}

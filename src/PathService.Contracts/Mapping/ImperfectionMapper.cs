@@ -1,0 +1,78 @@
+using PathService.Engine.Analyses;
+using PathService.Engine.Model;
+using PathService.Engine.Stability;
+using Proto = PathService.Contracts.V1;
+
+namespace PathService.Contracts.Mapping;
+
+/// <summary>
+/// Turns an <see cref="Proto.Imperfection"/> into imperfection shapes of the engine (buckling modes of the perfect
+/// model, or an explicit per-node shape) and amplitudes in the model's length unit.
+/// </summary>
+public static class ImperfectionMapper
+{
+    public const int MaxModeNumber = 20;
+
+    /// <summary>The perfect definition with the imperfection applied; unchanged when <paramref name="imperfection"/> is null.</summary>
+    public static ModelDefinition Apply(ModelDefinition perfect, Proto.Imperfection? imperfection)
+    {
+        if (imperfection is null) return perfect;
+        var (shapes, weights) = Shapes(perfect, imperfection);
+        return Imperfections.Apply(perfect, shapes, weights, ToLength(perfect, imperfection, imperfection.Amplitude, "imperfection.amplitude"));
+    }
+
+    /// <summary>Shapes and weights; throws <see cref="ModelValidationException"/> naming the imperfection field at fault.</summary>
+    public static (IReadOnlyList<double[]> Shapes, IReadOnlyList<double> Weights) Shapes(ModelDefinition perfect, Proto.Imperfection imp)
+    {
+        var findings = new List<ValidationFinding>();
+        void Bad(string field, string message) => findings.Add(new(FindingSeverity.Error, FindingCode.AbsurdMagnitude, field, null, message));
+        var shapes = new List<double[]>();
+        int n = perfect.Nodes.Count;
+        if (imp.Shape.Count > 0)
+        {
+            var index = perfect.Nodes.Select((nd, k) => (nd.Id, k)).GroupBy(t => t.Id).ToDictionary(g => g.Key, g => g.First().k);
+            var shape = new double[3 * n];
+            for (int i = 0; i < imp.Shape.Count; i++)
+            {
+                var v = imp.Shape[i];
+                if (!index.TryGetValue(v.Node, out int k)) { findings.Add(new(FindingSeverity.Error, FindingCode.UnknownNode, $"imperfection.shape[{i}].node", v.Node, $"imperfection shape refers to node '{v.Node}', which is not defined")); continue; }
+                if (!double.IsFinite(v.X) || !double.IsFinite(v.Y) || !double.IsFinite(v.Z)) { Bad($"imperfection.shape[{i}]", $"imperfection shape of node '{v.Node}' is not finite"); continue; }
+                shape[3 * k] = v.X; shape[3 * k + 1] = v.Y; shape[3 * k + 2] = v.Z;
+            }
+            shapes.Add(shape);
+        }
+        else if (imp.BucklingModes.Count > 0)
+        {
+            for (int i = 0; i < imp.BucklingModes.Count; i++)
+                if (imp.BucklingModes[i] < 1 || imp.BucklingModes[i] > MaxModeNumber)
+                    Bad($"imperfection.buckling_modes[{i}]", $"buckling mode number {imp.BucklingModes[i]} is outside 1..{MaxModeNumber}");
+            if (findings.Count == 0)
+            {
+                var buckling = LinearBucklingAnalysis.Run(StructuralModel.Create(perfect), imp.BucklingModes.Max());
+                foreach (int mode in imp.BucklingModes)
+                {
+                    if (mode > buckling.Modes.Count) { Bad("imperfection.buckling_modes", $"the model has only {buckling.Modes.Count} positive buckling modes; mode {mode} does not exist"); break; }
+                    shapes.Add(buckling.Modes[mode - 1].Shape);
+                }
+            }
+        }
+        else Bad("imperfection", "give either buckling_modes or a shape");
+
+        var weights = imp.Weights.Count > 0 ? imp.Weights.ToList() : Enumerable.Repeat(1.0, Math.Max(1, shapes.Count)).ToList();
+        if (imp.Weights.Count > 0 && imp.Weights.Count != Math.Max(1, imp.Shape.Count > 0 ? 1 : imp.BucklingModes.Count))
+            Bad("imperfection.weights", $"{imp.Weights.Count} weights for {(imp.Shape.Count > 0 ? 1 : imp.BucklingModes.Count)} shapes");
+        if (imp.Weights.Any(w => !double.IsFinite(w))) Bad("imperfection.weights", "imperfection weights must be finite");
+        if (findings.Count > 0) throw new ModelValidationException(findings);
+        return (shapes, weights);
+    }
+
+    /// <summary>An amplitude in the model's length unit; checks that it is finite.</summary>
+    public static double ToLength(ModelDefinition perfect, Proto.Imperfection imp, double amplitude, string field)
+    {
+        if (!double.IsFinite(amplitude) || Math.Abs(amplitude) > ModelValidator.MaxMagnitude)
+            throw new ModelValidationException([new(FindingSeverity.Error, FindingCode.NonFiniteNumber, field, null, $"imperfection amplitude {amplitude} is not a finite number")]);
+        if (imp.AmplitudeUnit != Proto.AmplitudeUnit.SpanFraction) return amplitude;
+        double span = imp.DeclaredSpan > 0 && double.IsFinite(imp.DeclaredSpan) ? imp.DeclaredSpan : Imperfections.PlanSpan(perfect);
+        return amplitude * span;
+    }
+}
