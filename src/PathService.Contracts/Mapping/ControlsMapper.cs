@@ -54,6 +54,7 @@ public static class ControlsMapper
             TinyPivotRatio = c.HasTinyPivotRatio ? c.TinyPivotRatio : d.TinyPivotRatio,
             FullStateEvery = c.FullStateEvery,
             SwitchBranches = c.SwitchBranches,
+            ModifiedNewton = c.ModifiedNewton,
             SecondaryBranchPoints = c.HasSecondaryBranchPoints ? c.SecondaryBranchPoints : d.SecondaryBranchPoints,
             BranchPerturbation = c.HasBranchPerturbation ? c.BranchPerturbation : d.BranchPerturbation,
             FullStateAtCriticalPoints = c.HasFullStateAtCriticalPoints ? c.FullStateAtCriticalPoints : d.FullStateAtCriticalPoints,

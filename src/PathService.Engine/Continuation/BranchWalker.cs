@@ -71,7 +71,8 @@ internal sealed class BranchWalker(TraceSession s)
                     ContinuationMethod.DisplacementControl => new StepConstraint(ConstraintKind.Displacement, ControlEquation: s.ControlEquation),
                     _ => new StepConstraint(ConstraintKind.ArcLength, ArcLength: increment, PsiSquared: s.PsiSquared),
                 };
-                outcome = s.Corrector.Correct(b.U, ref lambda, _dU, ref dLam, constraint, c.MaxIterations, c.ResidualTolerance, s.Ct);
+                if (c.ModifiedNewton && attempt > 0) RefreshTangent(b);
+                outcome = s.Corrector.Correct(b.U, ref lambda, _dU, ref dLam, constraint, c.MaxIterations, c.ResidualTolerance, s.Ct, keepFactor: c.ModifiedNewton);
                 s.Iterations += s.Corrector.Iterations;
                 var reason = s.Corrector.Reason;
                 string detail = s.Corrector.Detail;

@@ -39,7 +39,7 @@ internal sealed class Corrector(EquilibriumSystem sys)
     /// u, λ, dU and dλ are updated in place.
     /// </summary>
     public CorrectorOutcome Correct(double[] u, ref double lambda, double[] dU, ref double dLam, StepConstraint c,
-        int maxIterations, double tolerance, CancellationToken ct)
+        int maxIterations, double tolerance, CancellationToken ct, bool keepFactor = false)
     {
         Iterations = 0;
         double norm = sys.Residual(u, lambda, _r);
@@ -53,7 +53,8 @@ internal sealed class Corrector(EquilibriumSystem sys)
         {
             if (ct.IsCancellationRequested) return CorrectorOutcome.Cancelled;
             Iterations = it;
-            if (sys.Refactor(u) == LdlStatus.ZeroPivot)
+            // keepFactor: modified Newton with the factorisation already in place (the last converged point's tangent).
+            if (!keepFactor && sys.Refactor(u) == LdlStatus.ZeroPivot)
                 return Fail(CutReason.SingularTangent, "exactly singular tangent during iteration");
             for (int e = 0; e < _r.Length; e++) _dur[e] = -_r[e];
             double dl = 0;

@@ -122,3 +122,28 @@ public class TwoBarTrussTests
         Assert.Equal(2, events.OfType<CriticalPoint>().Count());
     }
 }
+
+/// <summary>Modified Newton (tangent of the last converged point kept through the step) reaches the same path.</summary>
+public class ModifiedNewtonTests
+{
+    [Fact]
+    public void Modified_Newton_traces_the_same_limit_points_with_fewer_factorisations_per_iteration()
+    {
+        var def = Fixtures.LatticeDome.Create(rise: 1.5, perRing: 10, loadedRings: 0);
+        SolverControls Controls(bool modified) => new()
+        {
+            InitialLoadIncrement = 1.0, MaxPoints = 30, ModifiedNewton = modified, MaxIterations = modified ? 200 : 25,
+            ResidualTolerance = 1e-10, CriticalPointTolerance = 1e-10,
+        };
+        var full = new PathTracer(StructuralModel.Create(def), Controls(false)).Trace().ToList();
+        var modified = new PathTracer(StructuralModel.Create(def), Controls(true)).Trace().ToList();
+        var a = full.OfType<CriticalPoint>().First();
+        var b = modified.OfType<CriticalPoint>().First();
+        Assert.Equal(a.Kind, b.Kind);
+        Assert.Equal(a.LoadFactor, b.LoadFactor, 1e-7 * Math.Abs(a.LoadFactor));
+        var sf = Assert.IsType<PathSummary>(full[^1]);
+        var sm = Assert.IsType<PathSummary>(modified[^1]);
+        Assert.True((double)sm.Factorizations / sm.Iterations < (double)sf.Factorizations / sf.Iterations,
+            $"modified {sm.Factorizations}/{sm.Iterations}, full {sf.Factorizations}/{sf.Iterations}");
+    }
+}
