@@ -29,8 +29,12 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         var (muA, modeA) = EigenAt(ua, modeGuess);
         var (muB, modeB) = EigenAt(ub, modeA);
         double tLo = 0, tHi = 1, fLo = muA, fHi = muB;
+        double lambdaLo = lambdaA, lambdaHi = lambdaB;
         // Converged when the eigenvalue nearest zero is this small against its values at the bracket ends.
         double muScale = Math.Abs(muA) + Math.Abs(muB);
+        // μ is about linear in t near its root, so a relative μ of ε puts t within ~ε of t*: λ_cr is then within
+        // ε·|Δλ| at a bifurcation and within ε² at a limit point (an extremum of λ).
+        double muStop = Math.Min(1e-6, 1e3 * controls.CriticalPointTolerance) * muScale;
         int side = 0, sinceHalved = 0;
         double width = 1;
         double[] bestU = (double[])ub.Clone();
@@ -56,13 +60,14 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             }
             var status = sys.Refactor(u);
             int inertia = status == LdlStatus.ZeroPivot ? -1 : sys.Factor.NegativePivotCount;
-            var (mu, mode) = status == LdlStatus.ZeroPivot ? (0.0, bestMode) : NearNullMode.Compute(sys, bestMode);
+            // μ is only needed to a small fraction of its values at the bracket ends to steer regula falsi.
+            var (mu, mode) = status == LdlStatus.ZeroPivot ? (0.0, bestMode) : NearNullMode.Compute(sys, bestMode, absoluteTolerance: 1e-10 * muScale);
             if (Math.Abs(mu) <= Math.Abs(bestMu))
             {
                 runnerUpLambda = bestLambda;
                 bestU = (double[])u.Clone(); bestLambda = lambda; bestMu = mu; bestMode = mode;
             }
-            if (status == LdlStatus.ZeroPivot || Math.Abs(mu) <= 1e-9 * muScale) { located = true; break; }
+            if (status == LdlStatus.ZeroPivot || Math.Abs(mu) <= muStop) { located = true; break; }
             if (inertia == na)
             {
                 tLo = t; fLo = mu;
@@ -75,11 +80,20 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
                 if (side == 1) fLo *= 0.5;
                 side = 1;
             }
+            if (inertia == na) lambdaLo = lambda; else lambdaHi = lambda;
             if (tHi - tLo <= 0.5 * width) { width = tHi - tLo; sinceHalved = 0; } else sinceHalved++;
+            // Where λ is monotone across the bracket (a bifurcation on a rising path), λ_cr lies between its ends.
+            bool monotone = (lambdaLo - lambda) * (lambda - lambdaHi) >= 0 && Math.Abs(lambdaHi - lambdaLo) > 0;
+            if (monotone && Math.Abs(lambdaHi - lambdaLo) <= controls.CriticalPointTolerance * Math.Max(1.0, Math.Abs(lambda)))
+            {
+                located = true;
+                runnerUpLambda = inertia == na ? lambdaHi : lambdaLo;
+                break;
+            }
             if (tHi - tLo < 1e-12) { located = true; break; }
         }
         double achieved = Math.Abs(bestLambda - runnerUpLambda) / Math.Max(1.0, Math.Abs(bestLambda));
-        located &= achieved <= Math.Max(controls.CriticalPointTolerance, 1e-12) || Math.Abs(bestMu) <= 1e-9 * muScale;
+        located &= achieved <= Math.Max(controls.CriticalPointTolerance, 1e-12) || Math.Abs(bestMu) <= muStop;
         return new Result(bestLambda, bestU, bestMu, bestMode, located, achieved);
     }
 

@@ -9,7 +9,7 @@ namespace PathService.Engine.Stability;
 /// </summary>
 internal static class NearNullMode
 {
-    public static (double Eigenvalue, double[] Mode) Compute(EquilibriumSystem sys, double[]? start, int maxIterations = 60, double tolerance = 1e-12)
+    public static (double Eigenvalue, double[] Mode) Compute(EquilibriumSystem sys, double[]? start, int maxIterations = 40, double tolerance = 1e-10, double absoluteTolerance = 0)
     {
         int n = sys.FreeCount;
         var x = new double[n];
@@ -29,7 +29,7 @@ internal static class NearNullMode
             if (!Normalize(x)) break;
             sys.Assembler.Multiply(sys.Values, x, kx);
             double next = EquilibriumSystem.Dot(x, kx);
-            bool done = k > 1 && Math.Abs(next - mu) <= tolerance * Math.Max(Math.Abs(next), 1e-300) + 1e-300;
+            bool done = k > 1 && Math.Abs(next - mu) <= tolerance * Math.Max(Math.Abs(next), 1e-300) + absoluteTolerance + 1e-300;
             mu = next;
             if (done) break;
         }
