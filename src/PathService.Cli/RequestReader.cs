@@ -53,7 +53,7 @@ internal static class RequestReader
         string? name = q1 >= 0 && q2 > q1 ? message[(q1 + 1)..q2] : null;
         if (name is null)
         {
-            var m = System.Text.RegularExpressions.Regex.Match(message, @"field '?([A-Za-z_][A-Za-z0-9_]*)'?");
+            var m = System.Text.RegularExpressions.Regex.Match(message, @"field:? '?([A-Za-z_][A-Za-z0-9_]*)'?");
             name = m.Success ? m.Groups[1].Value : null;
         }
         if (name is null) return "";

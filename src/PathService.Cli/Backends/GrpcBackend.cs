@@ -51,13 +51,16 @@ internal sealed class GrpcBackend : IAnalysisBackend
 
     public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct)
     {
-        int delivered = -1;
+        // Messages handed to the caller so far. A restarted trace repeats the same deterministic stream message for
+        // message (points, step cuts, critical points, branch events), so exactly that many are skipped on a restart.
+        int delivered = 0;
         for (int attempt = 0; ; attempt++)
         {
             var call = _client.TracePath(request, cancellationToken: ct);
             var reader = call.ResponseStream;
             bool failed = false;
             Exception? error = null;
+            int skip = delivered;
             while (true)
             {
                 TracePathResponse current;
@@ -73,14 +76,8 @@ internal sealed class GrpcBackend : IAnalysisBackend
                     break;
                 }
                 catch (RpcException ex) { call.Dispose(); throw Translate(ex); }
-                // Skip what an earlier attempt already delivered (same request, same deterministic path).
-                if (current.UpdateCase == TracePathResponse.UpdateOneofCase.Point)
-                {
-                    if (current.Point.Index <= delivered) continue;
-                    delivered = current.Point.Index;
-                }
-                else if (current.UpdateCase != TracePathResponse.UpdateOneofCase.Summary && delivered >= 0 && attempt > 0 && SkippedPhase(current, delivered))
-                    continue;
+                if (skip > 0) { skip--; continue; }
+                delivered++;
                 yield return current;
             }
             call.Dispose();
@@ -88,13 +85,6 @@ internal sealed class GrpcBackend : IAnalysisBackend
             await Console.Error.WriteLineAsync($"server dropped the trace ({error!.Message}); retrying on another instance (attempt {attempt + 2})");
         }
     }
-
-    /// <summary>A cut or critical point that belongs to the part of the path already delivered.</summary>
-    private static bool SkippedPhase(TracePathResponse r, int delivered) => r.UpdateCase switch
-    {
-        TracePathResponse.UpdateOneofCase.CriticalPoint => r.CriticalPoint.PointAfter <= delivered,
-        _ => false,
-    };
 
     public async IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, [EnumeratorCancellation] CancellationToken ct)
     {

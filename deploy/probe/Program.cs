@@ -1,0 +1,3 @@
+using PathService.Probe;
+
+return await HealthProbe.RunAsync(args, Environment.GetEnvironmentVariable);

@@ -1,0 +1,54 @@
+using System.Xml.Linq;
+using PathService.Cli.Backends;
+using PathService.Cli.Output;
+
+namespace PathService.Cli.Tests;
+
+public class PictureTests
+{
+    private static readonly XNamespace Svg = "http://www.w3.org/2000/svg";
+
+    private static void AssertCurveSvg(string svg)
+    {
+        var doc = XDocument.Parse(svg); // well-formed XML
+        var classes = doc.Descendants().Select(e => (Element: e, Class: (string?)e.Attribute("class") ?? "")).ToList();
+        var stable = classes.Where(c => c.Element.Name.LocalName == "polyline" && c.Class == "curve curve-stable").ToList();
+        Assert.NotEmpty(stable);
+        Assert.All(stable, c => Assert.True(c.Element.Attribute("points")!.Value.Split(' ').Length >= 2));
+        // The dome snaps through: part of its path is unstable, and two limit points are marked.
+        Assert.Contains(classes, c => c.Element.Name.LocalName == "polyline" && c.Class == "curve curve-unstable");
+        Assert.True(classes.Count(c => c.Class.Split(' ').Contains("critical-point") && c.Class.Contains("critical-limit")) >= 2);
+        var labels = classes.Where(c => c.Class == "axis-label").Select(c => c.Element.Value).ToList();
+        Assert.Equal(2, labels.Count);
+        Assert.Contains(labels, l => l.StartsWith("displacement crown.z") && l.EndsWith("[m]"));
+        Assert.Contains(labels, l => l.StartsWith("load factor λ") && l.Contains("kN"));
+        Assert.Contains(classes, c => c.Class == "caution" && c.Element.Value.Contains("qualified engineer"));
+    }
+
+    [Fact]
+    public async Task Curve_of_the_dome_has_stable_and_unstable_runs_limit_point_markers_and_axis_labels_with_units()
+    {
+        var request = RequestReader.Read(Repo.Example("market-hall-dome.json"));
+        await using var backend = new InProcessBackend();
+        var rec = await Traces.RecordAsync(backend, request);
+        Assert.True(rec.Criticals.Count(c => c.Kind == Contracts.V1.CriticalPointKind.LimitPoint) >= 2);
+        AssertCurveSvg(Pictures.Curve(request, rec));
+    }
+
+    [Fact]
+    public async Task Demo_command_writes_curve_shape_and_tables()
+    {
+        string dir = Directory.CreateTempSubdirectory("pathtrace-demo-").FullName;
+        try
+        {
+            var (code, stdout, stderr) = await Pathtrace.RunAsync(dir, "demo", "--out", dir, "--quiet");
+            Assert.True(code == 0, stderr);
+            foreach (var f in new[] { "path.csv", "path.jsonl", "summary.json", "curve.svg", "shape.svg" })
+                Assert.True(File.Exists(Path.Combine(dir, f)), $"{f} missing; stdout: {stdout}");
+            AssertCurveSvg(File.ReadAllText(Path.Combine(dir, "curve.svg")));
+            var shape = XDocument.Parse(File.ReadAllText(Path.Combine(dir, "shape.svg")));
+            Assert.Contains(shape.Descendants(), e => e.Value.Contains("deformed shape"));
+        }
+        finally { Directory.Delete(dir, recursive: true); }
+    }
+}
