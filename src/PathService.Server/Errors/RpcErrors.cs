@@ -58,10 +58,22 @@ public static class RpcErrors
             new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } } });
 
     /// <summary>RESOURCE_EXHAUSTED when every analysis slot is taken, with the delay after which a retry is sensible.</summary>
-    public static RpcException Busy(int capacity, TimeSpan retryAfter) =>
-        Build(StatusCode.ResourceExhausted, $"all {capacity} analysis slots are busy; retry later",
+    public static RpcException Busy(int capacity, TimeSpan retryAfter, int queue = 0) =>
+        Build(StatusCode.ResourceExhausted, queue > 0 ? $"all {capacity} analysis slots are busy and {queue} callers are waiting already; retry later" : $"all {capacity} analysis slots are busy; retry later",
             new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
             new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = "concurrent_analyses", Description = $"at most {capacity} analyses run at once" } } });
+
+    /// <summary>RESOURCE_EXHAUSTED when a caller waited the whole queue timeout without getting a slot.</summary>
+    public static RpcException QueueTimeout(int capacity, TimeSpan waited, TimeSpan retryAfter) =>
+        Build(StatusCode.ResourceExhausted, $"no analysis slot (of {capacity}) became free within {waited.TotalSeconds:0.###} s; retry later",
+            new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = "analysis_queue", Description = $"a caller waits at most {waited.TotalSeconds:0.###} s for one of {capacity} slots" } } });
+
+    /// <summary>RESOURCE_EXHAUSTED when one caller already runs as many analyses as its key allows.</summary>
+    public static RpcException CallerBusy(string caller, int max, TimeSpan retryAfter) =>
+        Build(StatusCode.ResourceExhausted, $"caller '{caller}' already runs {max} analyses, its limit; retry when one has finished",
+            new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = $"caller:{caller}", Description = $"at most {max} analyses at once per caller" } } });
 
     private static string Describe(ValidationFinding f) =>
         f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{id}')" : f.Message;

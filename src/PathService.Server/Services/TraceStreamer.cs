@@ -29,7 +29,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
     /// <exception cref="ModelValidationException">Invalid controls (before anything is streamed).</exception>
     /// <exception cref="MechanismException">Singular start (before anything is streamed).</exception>
     public async Task<PathSummary?> StreamAsync(StructuralModel model, SolverControls controls,
-        IServerStreamWriter<TracePathResponse> stream, CancellationToken ct)
+        IServerStreamWriter<TracePathResponse> stream, CancellationToken ct, string fingerprint = "", string engineVersion = "")
     {
         // The worker obeys a token of its own, linked to the call's, so that the reader can stop it too (e.g. when a
         // write to the client fails without the call being cancelled).
@@ -42,7 +42,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
             SingleReader = true, SingleWriter = true, FullMode = BoundedChannelFullMode.Wait,
         });
         var activity = Activity.Current;
-        var producer = Task.Run(() => ProduceAsync(events, mapper, channel.Writer, activity, stop.Token), CancellationToken.None);
+        var producer = Task.Run(() => ProduceAsync(events, mapper, channel.Writer, activity, fingerprint, engineVersion, stop.Token), CancellationToken.None);
         try
         {
             await foreach (var message in channel.Reader.ReadAllAsync(ct))
@@ -65,7 +65,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
     }
 
     private async Task<PathSummary?> ProduceAsync(IEnumerable<PathEvent> events, ResultMapper mapper,
-        ChannelWriter<TracePathResponse> writer, Activity? activity, CancellationToken ct)
+        ChannelWriter<TracePathResponse> writer, Activity? activity, string fingerprint, string engineVersion, CancellationToken ct)
     {
         PathSummary? summary = null;
         try
@@ -75,6 +75,11 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
                 Record(e, activity);
                 if (e is PathSummary s) summary = s;
                 var message = mapper.ToResponse(e);
+                if (message.Summary is { } ps)
+                {
+                    ps.Fingerprint = fingerprint;
+                    ps.EngineVersion = engineVersion;
+                }
                 if (!writer.TryWrite(message)) await writer.WriteAsync(message, ct).ConfigureAwait(false);
             }
             writer.TryComplete();
