@@ -94,6 +94,7 @@ public static class ServerHost
         var app = builder.Build();
         app.UseMiddleware<RequestIdMiddleware>();
         app.UseSerilogRequestLogging();
+        app.UseMiddleware<RequestMessageGuard>();
         app.MapGrpcService<StructuralPathGrpcService>();
         app.MapGrpcHealthChecksService();
         if (options.EnableReflection) app.MapGrpcReflectionService();

@@ -35,6 +35,9 @@ public sealed class StructuralPathGrpcService(
     /// SHA-256 (lower-case hex) of the request as the protobuf runtime serialises it: fields in field-number order,
     /// unknown fields kept. Two requests with the same fingerprint are the same analysis and give the same path.
     /// </summary>
+    /// <summary>Findings listed by CheckModel at most.</summary>
+    public const int MaxFindings = 1000;
+
     public static string Fingerprint(IMessage request) => Convert.ToHexStringLower(SHA256.HashData(request.ToByteArray()));
 
     public override Task TracePath(TracePathRequest request, IServerStreamWriter<TracePathResponse> responseStream, ServerCallContext context) =>
@@ -73,7 +76,14 @@ public sealed class StructuralPathGrpcService(
             Valid = findings.All(f => f.Severity != FindingSeverity.Error),
             Units = ModelMapper.ToUnits(definition.Units),
         };
-        response.Findings.AddRange(findings.Select(ResultMapper.ToFinding));
+        // Bounded: a model of many duplicated entries has a finding per entry; past the cap one warning gives the count.
+        response.Findings.AddRange(findings.Take(MaxFindings).Select(ResultMapper.ToFinding));
+        if (findings.Count > MaxFindings)
+            response.Findings.Add(new Finding
+            {
+                Severity = Contracts.V1.FindingSeverity.Warning, Code = "FINDINGS_TRUNCATED", Field = "model",
+                Message = $"{findings.Count - MaxFindings} more findings are not listed ({findings.Count} in all); fix the ones above and check again",
+            });
         logger.LogInformation("Model check: {Errors} errors, {Warnings} warnings",
             findings.Count(f => f.Severity == FindingSeverity.Error), findings.Count(f => f.Severity == FindingSeverity.Warning));
         return Task.FromResult(response);
@@ -99,6 +109,7 @@ public sealed class StructuralPathGrpcService(
                 Units = ModelMapper.ToUnits(model.Units),
             };
             response.Warnings.AddRange(model.Warnings.Select(ResultMapper.ToFinding));
+            FiniteGuard.ThrowIfNonFinite(response);
             return Task.FromResult("Solved");
             };
         });
@@ -122,9 +133,18 @@ public sealed class StructuralPathGrpcService(
             try { result = LinearBucklingAnalysis.Run(model, count); }
             catch (ArgumentOutOfRangeException ex) { throw RpcErrors.InvalidField("mode_count", ex.Message); }
             catch (InvalidOperationException ex) { throw RpcErrors.Precondition("UNSTABLE_START", ex.Message); }
+            // Engine workaround: the Rayleigh-Ritz step's dense Cholesky (MathNet) throws ArgumentException when the
+            // reduced stiffness is not positive definite, e.g. for a structure with a single free DOF. That is a
+            // property of the model, not a server fault.
+            catch (ArgumentException ex) when (ex.TargetSite?.DeclaringType?.Namespace?.StartsWith("MathNet", StringComparison.Ordinal) == true)
+            {
+                throw RpcErrors.Precondition("BUCKLING_NOT_SOLVABLE",
+                    "the linearised buckling problem of this model could not be solved: the reduced stiffness of the subspace iteration is not positive definite (a structure with very few free DOFs, or a load that does not compress it)");
+            }
             var mapper = new ResultMapper(model, []);
             response = new FindBucklingModesResponse { Iterations = result.Iterations, Converged = result.Converged, Units = ModelMapper.ToUnits(model.Units) };
             response.Modes.AddRange(result.Modes.Select(mapper.ToMode));
+            FiniteGuard.ThrowIfNonFinite(response);
             return Task.FromResult(result.Converged ? "Converged" : "NotConverged");
             };
         });

@@ -6,6 +6,7 @@ using PathService.Contracts.V1;
 using PathService.Engine.Continuation;
 using PathService.Engine.Model;
 using PathService.Contracts.Mapping;
+using PathService.Server.Errors;
 using PathService.Server.Telemetry;
 using CriticalPoint = PathService.Engine.Continuation.CriticalPoint;
 using PathPoint = PathService.Engine.Continuation.PathPoint;
@@ -75,6 +76,8 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
                 Record(e, activity);
                 if (e is PathSummary s) summary = s;
                 var message = mapper.ToResponse(e);
+                // A non-finite number ends the stream with FAILED_PRECONDITION instead of reaching the caller.
+                FiniteGuard.ThrowIfNonFinite(message);
                 if (message.Summary is { } ps)
                 {
                     ps.Fingerprint = fingerprint;
