@@ -23,7 +23,7 @@ public sealed class TestServer : IAsyncDisposable
     public AnalysisGate Gate => App.Services.GetRequiredService<AnalysisGate>();
     private bool _stopped;
 
-    /// <param name="settings">Configuration keys below "PathService", e.g. "Limits:MaxNodes=10".</param>
+    /// <param name="settings">Configuration keys below "PathService", e.g. "Limits:MaxNodes=10"; an entry starting with "--" is passed as is (e.g. a log level).</param>
     /// <param name="serverCertificate">With TLS: the certificate the client accepts (by thumbprint).</param>
     public static async Task<TestServer> StartAsync(IEnumerable<string> settings, X509Certificate2? serverCertificate = null)
     {
@@ -31,7 +31,7 @@ public sealed class TestServer : IAsyncDisposable
         [
             "--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
             "--Serilog:MinimumLevel:Default=Warning",
-            .. settings.Select(s => "--PathService:" + s),
+            .. settings.Select(s => s.StartsWith("--", StringComparison.Ordinal) ? s : "--PathService:" + s),
         ];
         var app = ServerHost.Build(args);
         await app.StartAsync();
