@@ -50,7 +50,7 @@ public sealed class StructuralPathGrpcService(
             string fingerprint = Fingerprint(request);
             return async ct =>
             {
-            var summary = await streamer.StreamAsync(model, controls, responseStream, ct, fingerprint, EngineVersion);
+            var summary = await streamer.StreamAsync(model, controls, responseStream, ct, fingerprint, EngineVersion, context.CancellationToken);
             if (summary is null) return "Cancelled";
             logger.LogInformation(
                 "Trace ended {StopReason} after {Points} points, {Steps} steps, {Iterations} iterations, {Cuts} cuts, {CriticalPoints} critical points; max load factor {MaxLoadFactor}, wall time {WallTimeMs} ms",

@@ -30,8 +30,12 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
     /// <exception cref="ModelValidationException">Invalid controls (before anything is streamed).</exception>
     /// <exception cref="MechanismException">Singular start (before anything is streamed).</exception>
     public async Task<PathSummary?> StreamAsync(StructuralModel model, SolverControls controls,
-        IServerStreamWriter<TracePathResponse> stream, CancellationToken ct, string fingerprint = "", string engineVersion = "")
+        IServerStreamWriter<TracePathResponse> stream, CancellationToken ct, string fingerprint = "", string engineVersion = "",
+        CancellationToken writeToken = default)
     {
+        // Writes obey the call's own token only: cancelling a pending write makes grpc-dotnet reset the stream, which
+        // would hide the status of a server-side stop (shutdown) from the caller.
+        if (!writeToken.CanBeCanceled) writeToken = ct;
         // The worker obeys a token of its own, linked to the call's, so that the reader can stop it too (e.g. when a
         // write to the client fails without the call being cancelled).
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(ct);
@@ -47,7 +51,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
         try
         {
             await foreach (var message in channel.Reader.ReadAllAsync(ct))
-                await stream.WriteAsync(message, ct);
+                await stream.WriteAsync(message, writeToken);
         }
         catch (Exception ex)
         {
