@@ -81,8 +81,14 @@ public sealed class FaultTests(ITestOutputHelper output)
         await using var server = await TestServer.StartAsync(["Shutdown:GraceSeconds=2", "Limits:MaxConcurrentAnalyses=2"]);
         var health = new Health.HealthClient(server.Channel);
 
-        // A trace that never finishes by itself, and one that needs well under the grace period.
-        var longCall = server.Client.TracePath(Requests.LongTrace());
+        // A trace that cannot finish within the grace period (5,000 small steps on an 800-bar cap), and one that needs
+        // well under it.
+        var (big, bigLoads, bigCrown) = DemoStructures.LatticeCap(16);
+        var longCall = server.Client.TracePath(new TracePathRequest
+        {
+            Model = big, LoadCase = bigLoads,
+            Controls = new SolverControls { InitialLoadIncrement = 0.001, MaxIncrementRatio = 1, MaxPoints = 5000, Monitored = { bigCrown } },
+        });
         Assert.True(await longCall.ResponseStream.MoveNext());
         var (cap, loads, crown) = DemoStructures.LatticeCap(6);
         var shortRequest = new TracePathRequest

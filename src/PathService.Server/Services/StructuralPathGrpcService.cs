@@ -51,6 +51,9 @@ public sealed class StructuralPathGrpcService(
             return async ct =>
             {
             var summary = await streamer.StreamAsync(model, controls, responseStream, ct, fingerprint, EngineVersion, context.CancellationToken);
+            // Stopped by the call's cancellation or by a shutdown: the engine may have ended with a Cancelled summary;
+            // the caller still gets CANCELLED, or UNAVAILABLE for a shutdown, rather than OK.
+            ct.ThrowIfCancellationRequested();
             if (summary is null) return "Cancelled";
             logger.LogInformation(
                 "Trace ended {StopReason} after {Points} points, {Steps} steps, {Iterations} iterations, {Cuts} cuts, {CriticalPoints} critical points; max load factor {MaxLoadFactor}, wall time {WallTimeMs} ms",

@@ -62,11 +62,19 @@ public sealed class TestServer : IAsyncDisposable
         await App.StopAsync();
     }
 
+    /// <summary>Stopped servers are kept, not disposed, until the test run ends; see <see cref="DisposeAsync"/>.</summary>
+    private static readonly List<WebApplication> Retired = [];
+
+    /// <summary>
+    /// Stops the server but does not dispose its service provider: that would dispose its "PathService" meter, and the
+    /// OpenTelemetry SDK of the shared fixture (which listens to every meter of that name in the process) then drops
+    /// the metric streams it shares with it, so the fixture's metric tests would lose their own measurements.
+    /// </summary>
     public async ValueTask DisposeAsync()
     {
         Channel.Dispose();
         await StopAsync();
-        await App.DisposeAsync();
+        lock (Retired) Retired.Add(App);
     }
 }
 
