@@ -7,7 +7,7 @@ app.Lifetime.ApplicationStarted.Register(() =>
     // Say which port is which: with port 0 the numbers are only known now.
     var ep = app.Services.GetRequiredService<BoundEndpoints>();
     app.Logger.LogInformation("PathService ready: gRPC {GrpcUrl}, HTTP/1.1 {HttpUrl}",
-        ep.Grpc is { } g ? BoundEndpoints.UrlOf(g) : "-", ep.Http is { } h ? BoundEndpoints.UrlOf(h) : "disabled");
+        ep.Grpc is { } g ? BoundEndpoints.UrlOf(g, ep.Tls) : "-", ep.Http is { } h ? BoundEndpoints.UrlOf(h, ep.Tls) : "disabled");
 });
 await app.RunAsync();
 

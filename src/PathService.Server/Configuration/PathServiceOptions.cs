@@ -22,6 +22,11 @@ public sealed class PathServiceOptions
 
     public LimitOptions Limits { get; set; } = new();
     public TelemetryOptions Telemetry { get; set; } = new();
+    public SecurityOptions Security { get; set; } = new();
+    public ShutdownOptions Shutdown { get; set; } = new();
+
+    /// <summary>Server reflection (schema discovery for grpcurl and similar tools). It reveals the public contract only.</summary>
+    public bool EnableReflection { get; set; } = true;
 }
 
 /// <summary>Protective limits; a request beyond them gets RESOURCE_EXHAUSTED.</summary>
@@ -39,6 +44,70 @@ public sealed class LimitOptions
     public int MaxBucklingModes { get; set; } = 20;
     /// <summary>Wall-time cap of one trace in seconds (0 = none); a caller's smaller wall_time_limit wins.</summary>
     public double MaxTraceSeconds { get; set; } = 600;
+    /// <summary>Largest accepted request message in bytes (Kestrel's gRPC MaxReceiveMessageSize); beyond it RESOURCE_EXHAUSTED.</summary>
+    public int MaxRequestBytes { get; set; } = 16 * 1024 * 1024;
+    /// <summary>Callers waiting for a free analysis slot; one more is refused at once with RESOURCE_EXHAUSTED and RetryInfo. 0 = no queue.</summary>
+    public int MaxQueuedAnalyses { get; set; } = 8;
+    /// <summary>Longest wait in the queue, in seconds; then RESOURCE_EXHAUSTED with RetryInfo.</summary>
+    public double QueueTimeoutSeconds { get; set; } = 10;
+    /// <summary>Memory budget of one analysis in MiB, estimated from the model before anything is factorised (0 = none).</summary>
+    public double MaxAnalysisMemoryMiB { get; set; } = 1024;
+    /// <summary>Default number of analyses one caller (API key) may run at once; 0 = no per-caller cap. A key may override it.</summary>
+    public int MaxConcurrentAnalysesPerCaller { get; set; }
+}
+
+/// <summary>Transport security and caller authentication.</summary>
+public sealed class SecurityOptions
+{
+    public TlsOptions Tls { get; set; } = new();
+    public ApiKeyOptions ApiKeys { get; set; } = new();
+}
+
+/// <summary>
+/// TLS on the gRPC port (and on the HTTP/1.1 port too). Either a PKCS#12 file (<see cref="CertificatePath"/> with an
+/// optional <see cref="CertificatePassword"/>) or a PEM pair (<see cref="CertificatePath"/> ending in .pem/.crt plus
+/// <see cref="KeyPath"/>). Empty path = cleartext. With TLS the gRPC port negotiates HTTP/2 by ALPN.
+/// </summary>
+public sealed class TlsOptions
+{
+    public string CertificatePath { get; set; } = "";
+    /// <summary>Password of the PKCS#12 file; give it through the environment (PathService__Security__Tls__CertificatePassword), never in a checked-in file.</summary>
+    public string CertificatePassword { get; set; } = "";
+    public string KeyPath { get; set; } = "";
+    public bool Enabled => !string.IsNullOrWhiteSpace(CertificatePath);
+}
+
+/// <summary>
+/// API keys presented in a request header. With no key configured, authentication is off. The analysis RPCs need a
+/// key; health, metrics and reflection do not.
+/// </summary>
+public sealed class ApiKeyOptions
+{
+    /// <summary>Header carrying the key (lower case, as gRPC metadata keys are).</summary>
+    public string Header { get; set; } = "x-api-key";
+    public List<ApiKeyEntry> Keys { get; set; } = [];
+    public bool Enabled => Keys.Count > 0;
+}
+
+/// <summary>One caller. Give the key itself (<see cref="Key"/>, e.g. from a secret store through the environment) or only its SHA-256 in hex (<see cref="KeySha256"/>).</summary>
+public sealed class ApiKeyEntry
+{
+    /// <summary>Caller name used in logs and metrics; never the key.</summary>
+    public string Name { get; set; } = "";
+    public string Key { get; set; } = "";
+    public string KeySha256 { get; set; } = "";
+    /// <summary>Analyses this caller may run at once; 0 = the server default (<see cref="LimitOptions.MaxConcurrentAnalysesPerCaller"/>).</summary>
+    public int MaxConcurrentAnalyses { get; set; }
+}
+
+/// <summary>Graceful shutdown.</summary>
+public sealed class ShutdownOptions
+{
+    /// <summary>
+    /// On stop, health turns NOT_SERVING and new analyses are refused with UNAVAILABLE; running analyses get this many
+    /// seconds to finish, then they are cancelled.
+    /// </summary>
+    public double GraceSeconds { get; set; } = 20;
 }
 
 /// <summary>Telemetry endpoints.</summary>
@@ -48,6 +117,8 @@ public sealed class TelemetryOptions
     public string OtlpEndpoint { get; set; } = "";
     /// <summary>Path of the Prometheus scrape endpoint on the HTTP/1.1 port; empty turns it off.</summary>
     public string PrometheusPath { get; set; } = "/metrics";
+    /// <summary>Path of the plain HTTP health endpoint (200 Healthy / 503 Unhealthy), open without authentication; empty turns it off. gRPC health is always on the gRPC port.</summary>
+    public string HealthPath { get; set; } = "/healthz";
     /// <summary>service.name resource attribute of traces and metrics.</summary>
     public string ServiceName { get; set; } = "pathservice";
 }

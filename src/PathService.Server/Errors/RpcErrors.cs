@@ -15,12 +15,17 @@ public static class RpcErrors
 {
     public const string Domain = "pathservice.v1";
 
+    /// <summary>Field violations listed in one error; CheckModel returns every finding instead.</summary>
+    public const int MaxViolations = 50;
+
     /// <summary>INVALID_ARGUMENT with one field violation per error finding (warnings are left out).</summary>
     public static RpcException Invalid(IEnumerable<ValidationFinding> findings)
     {
         var errors = findings.Where(f => f.Severity == FindingSeverity.Error).ToList();
         var bad = new BadRequest();
-        foreach (var f in errors)
+        // The details travel in a trailer; HTTP/2 clients refuse header blocks beyond 64 KiB (and a model with thousands
+        // of duplicated entries has thousands of findings), so only the first ones are listed; the message gives the count.
+        foreach (var f in errors.Take(MaxViolations))
             bad.FieldViolations.Add(new BadRequest.Types.FieldViolation
             {
                 Field = FieldPaths.ToRequestPath(f.FieldPath),
@@ -58,16 +63,35 @@ public static class RpcErrors
             new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } } });
 
     /// <summary>RESOURCE_EXHAUSTED when every analysis slot is taken, with the delay after which a retry is sensible.</summary>
-    public static RpcException Busy(int capacity, TimeSpan retryAfter) =>
-        Build(StatusCode.ResourceExhausted, $"all {capacity} analysis slots are busy; retry later",
+    public static RpcException Busy(int capacity, TimeSpan retryAfter, int queue = 0) =>
+        Build(StatusCode.ResourceExhausted, queue > 0 ? $"all {capacity} analysis slots are busy and {queue} callers are waiting already; retry later" : $"all {capacity} analysis slots are busy; retry later",
             new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
             new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = "concurrent_analyses", Description = $"at most {capacity} analyses run at once" } } });
+
+    /// <summary>RESOURCE_EXHAUSTED when a caller waited the whole queue timeout without getting a slot.</summary>
+    public static RpcException QueueTimeout(int capacity, TimeSpan waited, TimeSpan retryAfter) =>
+        Build(StatusCode.ResourceExhausted, $"no analysis slot (of {capacity}) became free within {waited.TotalSeconds:0.###} s; retry later",
+            new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = "analysis_queue", Description = $"a caller waits at most {waited.TotalSeconds:0.###} s for one of {capacity} slots" } } });
+
+    /// <summary>RESOURCE_EXHAUSTED when one caller already runs as many analyses as its key allows.</summary>
+    public static RpcException CallerBusy(string caller, int max, TimeSpan retryAfter) =>
+        Build(StatusCode.ResourceExhausted, $"caller '{caller}' already runs {max} analyses, its limit; retry when one has finished",
+            new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = $"caller:{caller}", Description = $"at most {max} analyses at once per caller" } } });
 
     private static string Describe(ValidationFinding f) =>
         f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{id}')" : f.Message;
 
+    /// <summary>FAILED_PRECONDITION when the result of a well-formed model is not finite (its numbers overflow double precision).</summary>
+    public static RpcException NonFinite(string where) =>
+        Build(StatusCode.FailedPrecondition,
+            $"the analysis produced a non-finite value ({where}); the model's magnitudes (moduli, areas, loads, coordinates) overflow double precision",
+            new ErrorInfo { Reason = "NON_FINITE_RESULT", Domain = Domain, Metadata = { ["field"] = where } });
+
     private static RpcException Build(StatusCode code, string message, params Google.Protobuf.IMessage[] details)
     {
+        if (message.Length > 1000) message = message[..1000] + "…";
         var status = new Google.Rpc.Status { Code = (int)code, Message = message };
         foreach (var d in details) status.Details.Add(Any.Pack(d));
         return status.ToRpcException();

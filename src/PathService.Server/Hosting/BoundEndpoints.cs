@@ -10,6 +10,12 @@ namespace PathService.Server.Hosting;
 public sealed class BoundEndpoints
 {
     internal ListenOptions? GrpcListen { get; set; }
+
+    /// <summary>True when both ports use TLS.</summary>
+    public bool Tls { get; init; }
+
+    /// <summary>URL of the gRPC endpoint (https with TLS); valid once the server has started.</summary>
+    public string GrpcUrl => UrlOf(Grpc!, Tls);
     internal ListenOptions? HttpListen { get; set; }
 
     /// <summary>gRPC (HTTP/2 cleartext) endpoint; valid once the server has started.</summary>
@@ -18,6 +24,6 @@ public sealed class BoundEndpoints
     /// <summary>HTTP/1.1 endpoint (JSON transcoding, metrics), or null when disabled.</summary>
     public IPEndPoint? Http => HttpListen?.IPEndPoint;
 
-    public static string UrlOf(IPEndPoint ep) =>
-        $"http://{(ep.Address.Equals(IPAddress.Any) ? IPAddress.Loopback : ep.Address)}:{ep.Port}";
+    public static string UrlOf(IPEndPoint ep, bool tls = false) =>
+        $"{(tls ? "https" : "http")}://{(ep.Address.Equals(IPAddress.Any) ? IPAddress.Loopback : ep.Address)}:{ep.Port}";
 }

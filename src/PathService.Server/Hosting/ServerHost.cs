@@ -1,9 +1,11 @@
 using System.Net;
+using System.Security.Cryptography.X509Certificates;
 using Microsoft.AspNetCore.Server.Kestrel.Core;
 using Microsoft.Extensions.Diagnostics.HealthChecks;
 using Microsoft.Extensions.Options;
 using PathService.Server.Configuration;
 using PathService.Server.Limits;
+using PathService.Server.Security;
 using PathService.Server.Services;
 using PathService.Server.Telemetry;
 using Serilog;
@@ -28,28 +30,63 @@ public static class ServerHost
         var options = section.Get<PathServiceOptions>() ?? new PathServiceOptions();
         builder.Services.Configure<PathServiceOptions>(section);
 
-        var endpoints = new BoundEndpoints();
+        var tls = options.Security.Tls;
+        var certificate = tls.Enabled ? LoadCertificate(tls) : null;
+        var endpoints = new BoundEndpoints { Tls = certificate is not null };
         builder.Services.AddSingleton(endpoints);
         builder.WebHost.ConfigureKestrel(k =>
         {
             var ip = IPAddress.Parse(options.ListenAddress);
-            // gRPC needs HTTP/2; without TLS there is no protocol negotiation, so this port speaks HTTP/2 only.
-            k.Listen(ip, options.Port, l => { l.Protocols = HttpProtocols.Http2; endpoints.GrpcListen = l; });
+            k.Listen(ip, options.Port, l =>
+            {
+                endpoints.GrpcListen = l;
+                if (certificate is null)
+                {
+                    // gRPC needs HTTP/2; without TLS there is no protocol negotiation, so this port speaks HTTP/2 only.
+                    l.Protocols = HttpProtocols.Http2;
+                }
+                else
+                {
+                    l.Protocols = HttpProtocols.Http1AndHttp2; // ALPN picks h2 for gRPC clients
+                    l.UseHttps(certificate);
+                }
+            });
             if (options.HttpPort >= 0)
-                k.Listen(ip, options.HttpPort, l => { l.Protocols = HttpProtocols.Http1; endpoints.HttpListen = l; });
+                k.Listen(ip, options.HttpPort, l =>
+                {
+                    l.Protocols = HttpProtocols.Http1;
+                    endpoints.HttpListen = l;
+                    if (certificate is not null) l.UseHttps(certificate);
+                });
         });
+        // The host waits for the grace period of running analyses plus a margin before it gives up on stopping.
+        builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = TimeSpan.FromSeconds(Math.Max(0, options.Shutdown.GraceSeconds) + 15));
 
         builder.AddPathServiceTelemetry(options.Telemetry);
-        builder.Services.AddGrpc(o => o.EnableDetailedErrors = false).AddJsonTranscoding();
-        builder.Services.AddGrpcReflection();
-        builder.Services.AddHealthChecks().AddCheck("engine", () => HealthCheckResult.Healthy(), tags: ["analysis"]);
+        builder.Services.AddGrpc(o =>
+            {
+                o.EnableDetailedErrors = false;
+                o.MaxReceiveMessageSize = options.Limits.MaxRequestBytes > 0 ? options.Limits.MaxRequestBytes : null;
+            })
+            .AddServiceOptions<StructuralPathGrpcService>(o => o.Interceptors.Add<ApiKeyInterceptor>())
+            .AddJsonTranscoding();
+        if (options.EnableReflection) builder.Services.AddGrpcReflection();
+        builder.Services.AddSingleton<ApiKeyAuthenticator>();
+        builder.Services.AddSingleton<CallerLimiter>();
+        builder.Services.AddSingleton<ShutdownCoordinator>();
+        builder.Services.AddHostedService(sp => sp.GetRequiredService<ShutdownCoordinator>());
+        builder.Services.AddHealthChecks().AddCheck<ServingHealthCheck>("engine", tags: ["analysis"]);
         builder.Services.AddGrpcHealthChecks(o =>
         {
             o.Services.Map("", _ => true);
             o.Services.Map(HealthServiceName, r => r.Tags.Contains("analysis"));
         });
         builder.Services.AddSingleton<RequestLimits>();
-        builder.Services.AddSingleton(sp => new AnalysisGate(Math.Max(1, sp.GetRequiredService<IOptions<PathServiceOptions>>().Value.Limits.MaxConcurrentAnalyses)));
+        builder.Services.AddSingleton(sp =>
+        {
+            var l = sp.GetRequiredService<IOptions<PathServiceOptions>>().Value.Limits;
+            return new AnalysisGate(Math.Max(1, l.MaxConcurrentAnalyses), l.MaxQueuedAnalyses, TimeSpan.FromSeconds(Math.Max(0, l.QueueTimeoutSeconds)));
+        });
         builder.Services.AddSingleton<TraceStreamer>();
 
         customize?.Invoke(builder);
@@ -57,11 +94,30 @@ public static class ServerHost
         var app = builder.Build();
         app.UseMiddleware<RequestIdMiddleware>();
         app.UseSerilogRequestLogging();
+        app.UseMiddleware<RequestMessageGuard>();
         app.MapGrpcService<StructuralPathGrpcService>();
         app.MapGrpcService<ImperfectionStudyGrpcService>();
         app.MapGrpcHealthChecksService();
-        app.MapGrpcReflectionService();
+        if (options.EnableReflection) app.MapGrpcReflectionService();
+        if (!string.IsNullOrWhiteSpace(options.Telemetry.HealthPath)) app.MapHealthChecks(options.Telemetry.HealthPath);
         app.MapPathServiceTelemetry(options.Telemetry);
+        // Fail at start, not at the first call, when the API key configuration is malformed.
+        _ = app.Services.GetRequiredService<ApiKeyAuthenticator>();
         return app;
     }
+
+    /// <summary>PKCS#12 (with an optional password) or a PEM certificate with its PEM key.</summary>
+    private static X509Certificate2 LoadCertificate(TlsOptions tls)
+    {
+        if (!string.IsNullOrWhiteSpace(tls.KeyPath))
+            return X509Certificate2.CreateFromPemFile(tls.CertificatePath, tls.KeyPath);
+        return X509CertificateLoader.LoadPkcs12FromFile(tls.CertificatePath, string.IsNullOrEmpty(tls.CertificatePassword) ? null : tls.CertificatePassword);
+    }
+}
+
+/// <summary>Healthy while the server accepts analyses; Unhealthy (NOT_SERVING) from the start of a shutdown.</summary>
+public sealed class ServingHealthCheck(ShutdownCoordinator shutdown) : IHealthCheck
+{
+    public Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken cancellationToken = default) =>
+        Task.FromResult(shutdown.Draining ? HealthCheckResult.Unhealthy("shutting down") : HealthCheckResult.Healthy());
 }

@@ -6,6 +6,7 @@ using PathService.Contracts.V1;
 using PathService.Engine.Continuation;
 using PathService.Engine.Model;
 using PathService.Contracts.Mapping;
+using PathService.Server.Errors;
 using PathService.Server.Telemetry;
 using CriticalPoint = PathService.Engine.Continuation.CriticalPoint;
 using PathPoint = PathService.Engine.Continuation.PathPoint;
@@ -29,8 +30,12 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
     /// <exception cref="ModelValidationException">Invalid controls (before anything is streamed).</exception>
     /// <exception cref="MechanismException">Singular start (before anything is streamed).</exception>
     public async Task<PathSummary?> StreamAsync(StructuralModel model, SolverControls controls,
-        IServerStreamWriter<TracePathResponse> stream, CancellationToken ct)
+        IServerStreamWriter<TracePathResponse> stream, CancellationToken ct, string fingerprint = "", string engineVersion = "",
+        CancellationToken writeToken = default)
     {
+        // Writes obey the call's own token only: cancelling a pending write makes grpc-dotnet reset the stream, which
+        // would hide the status of a server-side stop (shutdown) from the caller.
+        if (!writeToken.CanBeCanceled) writeToken = ct;
         // The worker obeys a token of its own, linked to the call's, so that the reader can stop it too (e.g. when a
         // write to the client fails without the call being cancelled).
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(ct);
@@ -42,11 +47,11 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
             SingleReader = true, SingleWriter = true, FullMode = BoundedChannelFullMode.Wait,
         });
         var activity = Activity.Current;
-        var producer = Task.Run(() => ProduceAsync(events, mapper, channel.Writer, activity, stop.Token), CancellationToken.None);
+        var producer = Task.Run(() => ProduceAsync(events, mapper, channel.Writer, activity, fingerprint, engineVersion, stop.Token), CancellationToken.None);
         try
         {
             await foreach (var message in channel.Reader.ReadAllAsync(ct))
-                await stream.WriteAsync(message, ct);
+                await stream.WriteAsync(message, writeToken);
         }
         catch (Exception ex)
         {
@@ -65,7 +70,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
     }
 
     private async Task<PathSummary?> ProduceAsync(IEnumerable<PathEvent> events, ResultMapper mapper,
-        ChannelWriter<TracePathResponse> writer, Activity? activity, CancellationToken ct)
+        ChannelWriter<TracePathResponse> writer, Activity? activity, string fingerprint, string engineVersion, CancellationToken ct)
     {
         PathSummary? summary = null;
         try
@@ -75,6 +80,13 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
                 Record(e, activity);
                 if (e is PathSummary s) summary = s;
                 var message = mapper.ToResponse(e);
+                // A non-finite number ends the stream with FAILED_PRECONDITION instead of reaching the caller.
+                FiniteGuard.ThrowIfNonFinite(message);
+                if (message.Summary is { } ps)
+                {
+                    ps.Fingerprint = fingerprint;
+                    ps.EngineVersion = engineVersion;
+                }
                 if (!writer.TryWrite(message)) await writer.WriteAsync(message, ct).ConfigureAwait(false);
             }
             writer.TryComplete();

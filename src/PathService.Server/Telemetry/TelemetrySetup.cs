@@ -27,7 +27,8 @@ public static class TelemetrySetup
             .ConfigureResource(r => r.AddService(options.ServiceName))
             .WithMetrics(m =>
             {
-                m.AddMeter(PathServiceTelemetry.MeterName).AddAspNetCoreInstrumentation();
+                // "System.Runtime": the runtime's own meter (working set, GC heap, thread pool), for the load command and dashboards.
+                m.AddMeter(PathServiceTelemetry.MeterName, "System.Runtime").AddAspNetCoreInstrumentation();
                 if (!string.IsNullOrWhiteSpace(options.PrometheusPath)) m.AddPrometheusExporter();
                 if (otlp) m.AddOtlpExporter(o => o.Endpoint = new Uri(options.OtlpEndpoint));
             })

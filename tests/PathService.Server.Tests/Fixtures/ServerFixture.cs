@@ -33,6 +33,8 @@ public sealed class ServerFixture : IAsyncLifetime
         [
             "--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
             $"--PathService:Limits:MaxBars={MaxBars}", $"--PathService:Limits:MaxConcurrentAnalyses={MaxConcurrentAnalyses}",
+            // No queue: a call beyond the concurrency limit is refused at once (the queue has its own tests).
+            "--PathService:Limits:MaxQueuedAnalyses=0",
             "--Serilog:MinimumLevel:Default=Warning",
         ], b => b.Services.ConfigureOpenTelemetryMeterProvider(m => m.AddInMemoryExporter(_metrics,
             r => r.TemporalityPreference = MetricReaderTemporalityPreference.Delta)));

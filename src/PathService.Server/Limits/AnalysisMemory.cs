@@ -1,0 +1,44 @@
+using PathService.Engine.Assembly;
+using PathService.Engine.Model;
+using PathService.Engine.Sparse;
+
+namespace PathService.Server.Limits;
+
+/// <summary>
+/// Estimate of the memory one analysis needs, computed from the model before anything is factorised. The part that
+/// grows fastest is the factor of the tangent stiffness. A cheap upper bound (a dense triangle) settles every model that
+/// is small enough; only when that bound exceeds the budget is the engine's symbolic analysis run on the real pattern
+/// (ordering + column counts, a small fraction of one factorisation) to get the exact number of factor entries.
+/// </summary>
+public static class AnalysisMemory
+{
+    /// <summary>Bytes per factor entry: the value, plus the same again for supernodal padding and work panels.</summary>
+    private const long BytesPerFactorEntry = 16;
+
+    /// <summary>Result of an estimate; <see cref="Exact"/> tells whether the symbolic analysis was run.</summary>
+    public readonly record struct Estimate(long Bytes, long FactorEntries, bool Exact);
+
+    /// <param name="extraVectors">Dense work vectors of length "free DOFs" the analysis keeps besides the usual ones (e.g. a buckling subspace).</param>
+    public static Estimate Of(StructuralModel model, long budgetBytes, int extraVectors = 0)
+    {
+        long n = model.Dofs.FreeCount;
+        long baseBytes = FixedBytes(model, n, extraVectors);
+        long denseEntries = n * (n + 1) / 2;
+        long upper = baseBytes + BytesPerFactorEntry * denseEntries;
+        if (budgetBytes <= 0 || upper <= budgetBytes) return new(upper, denseEntries, false);
+        if (n == 0) return new(baseBytes, 0, true);
+        var symbolic = LdlSymbolic.Analyze(new StructureAssembler(model).Pattern);
+        return new(baseBytes + BytesPerFactorEntry * symbolic.FactorNonZeroCount, symbolic.FactorNonZeroCount, true);
+    }
+
+    private static long FixedBytes(StructuralModel model, long n, int extraVectors)
+    {
+        long nodes = model.NodeCount, bars = model.BarCount + model.LinkSpringIds.Length + model.GroundSpringIds.Length;
+        // Upper pattern of K: a 3×3 upper block per node, a full 3×3 block per bar; values, pattern and a few copies.
+        long kEntries = 6 * nodes + 9 * bars;
+        return 512 * nodes + 512 * bars     // model arrays, ids, per-bar kinematics and scatter maps
+             + 40 * kEntries                 // pattern (int), values and the copies an analysis keeps (double)
+             + 8 * n * (48 + extraVectors)   // work vectors of the iteration, monitored states
+             + (8L << 20);                   // fixed overhead of a call
+    }
+}
