@@ -89,23 +89,39 @@ public static class LinearBucklingAnalysis
             var cBar = Y.TransposeThisAndMultiply(BY);
             aBar = 0.5 * (aBar + aBar.Transpose());
             cBar = 0.5 * (cBar + cBar.Transpose());
-            var L = aBar.Cholesky().Factor;
-            var Linv = L.Inverse();
-            var m = Linv * cBar * Linv.Transpose();
+            // Ā is positive semi-definite; where K_σ has a null space (bars unstressed by the reference load) some
+            // columns of Y vanish and Ā is singular, so reduce by its eigenvectors and keep the well-conditioned part:
+            // T = V Λ^(-1/2) gives Tᵀ Ā T = I over the retained directions.
+            var aEvd = aBar.Evd(Symmetricity.Symmetric);
+            double aMax = aEvd.EigenValues.Max(e => e.Real);
+            var keep = Enumerable.Range(0, q).Where(k => aEvd.EigenValues[k].Real > 1e-12 * aMax).ToArray();
+            if (keep.Length == 0 || !(aMax > 0))
+                throw new InvalidOperationException("the reference load produces no geometric stiffness, so there is no linearised buckling load");
+            var T = Matrix<double>.Build.Dense(q, keep.Length, (i, j) => aEvd.EigenVectors[i, keep[j]] / Math.Sqrt(aEvd.EigenValues[keep[j]].Real));
+            var m = T.TransposeThisAndMultiply(cBar) * T;
             m = 0.5 * (m + m.Transpose());
             var evd = m.Evd(Symmetricity.Symmetric);
-            var order = Enumerable.Range(0, q).OrderByDescending(k => evd.EigenValues[k].Real).ToArray();
-            var Z = Linv.Transpose() * evd.EigenVectors;
-            for (int k = 0; k < q; k++) theta[k] = evd.EigenValues[order[k]].Real;
-            var Xn = Y * Z;
+            int r = keep.Length;
+            var order = Enumerable.Range(0, r).OrderByDescending(k => evd.EigenValues[k].Real).ToArray();
+            var Xn = Y * (T * evd.EigenVectors);
             for (int k = 0; k < q; k++)
             {
-                var v = Xn.Column(order[k]);
-                X.SetColumn(k, v / v.AbsoluteMaximum());
+                if (k < r)
+                {
+                    theta[k] = evd.EigenValues[order[k]].Real;
+                    var v = Xn.Column(order[k]);
+                    X.SetColumn(k, v / v.AbsoluteMaximum());
+                }
+                else
+                {
+                    // Refill the lost directions with fresh random vectors so the subspace keeps its size.
+                    theta[k] = double.NegativeInfinity;
+                    for (int i = 0; i < n; i++) X[i, k] = rng.NextDouble() - 0.5;
+                }
             }
             bool done = it > 1;
             for (int k = 0; k < p; k++)
-                if (Math.Abs(theta[k] - previous[k]) > tolerance * Math.Abs(theta[k])) done = false;
+                if (!(Math.Abs(theta[k] - previous[k]) <= tolerance * Math.Abs(theta[k]))) done = false;
             Array.Copy(theta, previous, q);
             if (done || q == n) { converged = true; break; }
         }
