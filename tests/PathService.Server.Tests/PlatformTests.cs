@@ -26,6 +26,20 @@ public class PlatformTests(ServerFixture server)
     }
 
     [Fact]
+    public async Task A_refused_linear_analysis_over_json_carries_its_field_violations()
+    {
+        var model = DemoStructures.TwoBarTruss();
+        model.Bars[0].Area = -1;
+        var json = Google.Protobuf.JsonFormatter.Default.Format(new AnalyzeLinearRequest { Model = model, LoadCase = DemoStructures.ApexLoad() });
+        using var response = await server.Http.PostAsync("/v1/analyses:linear", new StringContent(json, Encoding.UTF8, "application/json"));
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        string text = await response.Content.ReadAsStringAsync();
+        using var body = JsonDocument.Parse(text);
+        Assert.Equal(3, body.RootElement.GetProperty("code").GetInt32()); // INVALID_ARGUMENT
+        Assert.Contains("model.bars[0].area", text);
+    }
+
+    [Fact]
     public async Task CheckModel_works_over_json_transcoding()
     {
         var model = DemoStructures.TwoBarTruss();

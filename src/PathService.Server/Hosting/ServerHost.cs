@@ -69,7 +69,9 @@ public static class ServerHost
                 o.MaxReceiveMessageSize = options.Limits.MaxRequestBytes > 0 ? options.Limits.MaxRequestBytes : null;
             })
             .AddServiceOptions<StructuralPathGrpcService>(o => o.Interceptors.Add<ApiKeyInterceptor>())
-            .AddJsonTranscoding();
+            // The richer error details must be known to the JSON formatter, or an error with details becomes a 500.
+            .AddJsonTranscoding(o => o.TypeRegistry = Google.Protobuf.Reflection.TypeRegistry.FromMessages(
+                Google.Rpc.BadRequest.Descriptor, Google.Rpc.ErrorInfo.Descriptor, Google.Rpc.QuotaFailure.Descriptor, Google.Rpc.RetryInfo.Descriptor));
         if (options.EnableReflection) builder.Services.AddGrpcReflection();
         builder.Services.AddSingleton<ApiKeyAuthenticator>();
         builder.Services.AddSingleton<CallerLimiter>();

@@ -30,7 +30,7 @@ public sealed class PathServiceTelemetry
     {
         var meter = factory.Create(MeterName);
         AnalysesStarted = meter.CreateCounter<long>("pathservice.analyses.started", "{analysis}", "Analyses accepted (tag rpc).");
-        AnalysesCompleted = meter.CreateCounter<long>("pathservice.analyses.completed", "{analysis}", "Analyses that ran to an end (tags rpc, stop_reason).");
+        AnalysesCompleted = meter.CreateCounter<long>("pathservice.analyses.completed", "{analysis}", "Analyses that ran to an end (tags rpc, outcome).");
         AnalysesFailed = meter.CreateCounter<long>("pathservice.analyses.failed", "{analysis}", "Analyses refused or failed (tags rpc, reason).");
         AnalysesActive = meter.CreateUpDownCounter<long>("pathservice.analyses.active", "{analysis}", "Analyses holding a worker right now.");
         Steps = meter.CreateCounter<long>("pathservice.steps", "{step}", "Converged continuation steps.");
@@ -39,6 +39,7 @@ public sealed class PathServiceTelemetry
         StepCuts = meter.CreateCounter<long>("pathservice.step_cuts", "{cut}", "Step attempts rejected and retried smaller (tag reason).");
         Divergences = meter.CreateCounter<long>("pathservice.divergences", "{trace}", "Traces that ended because a step could not be made to converge.");
         CriticalPoints = meter.CreateCounter<long>("pathservice.critical_points", "{point}", "Critical points located (tag kind).");
-        FactorizationTime = meter.CreateHistogram<double>("pathservice.factorization.time", "s", "Time spent factorising the tangent stiffness, per trace.");
+        FactorizationTime = meter.CreateHistogram<double>("pathservice.factorization.time", "s", "Time spent factorising the tangent stiffness, per trace.",
+            advice: new InstrumentAdvice<double> { HistogramBucketBoundaries = [0.001, 0.005, 0.01, 0.05, 0.1, 0.5, 1, 5, 10, 30, 60, 300, 600] });
     }
 }
