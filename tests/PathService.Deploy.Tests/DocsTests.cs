@@ -48,9 +48,12 @@ public class DocsTests(LiveServer server)
         string ops = Doc("operations.md");
         void Walk(Type type, string prefix)
         {
-            foreach (var p in type.GetProperties(BindingFlags.Public | BindingFlags.Instance))
+            foreach (var p in type.GetProperties(BindingFlags.Public | BindingFlags.Instance).Where(p => p.CanWrite))
             {
-                if (p.PropertyType.IsClass && p.PropertyType != typeof(string)) Walk(p.PropertyType, $"{prefix}__{p.Name}");
+                // A list of entries is documented as its first element's keys (…__Keys__0__Name).
+                if (p.PropertyType.IsGenericType && p.PropertyType.GetGenericTypeDefinition() == typeof(List<>))
+                    Assert.Contains($"`{prefix}__{p.Name}__0__", ops);
+                else if (p.PropertyType.IsClass && p.PropertyType != typeof(string)) Walk(p.PropertyType, $"{prefix}__{p.Name}");
                 else Assert.Contains($"`{prefix}__{p.Name}`", ops);
             }
         }
