@@ -65,13 +65,13 @@ public sealed class ExitCodeTests : IDisposable
     [Fact]
     public async Task Unknown_field_exits_2_naming_the_field_and_its_line()
     {
-        string text = Truss(barExtra: ", \"yieldStress\": 355000");
+        string text = Truss(barExtra: ", \"yieldStrength\": 355000");
         string path = Write("unknown.json", text);
         var (code, _, stderr) = await Pathtrace.RunAsync(_dir, "trace", path);
         Assert.Equal(2, code);
-        int line = Array.FindIndex(text.Split('\n'), l => l.Contains("yieldStress")) + 1;
+        int line = Array.FindIndex(text.Split('\n'), l => l.Contains("yieldStrength")) + 1;
         Assert.Contains($"{path}:{line}:", stderr);
-        Assert.Contains("yieldStress", stderr);
+        Assert.Contains("yieldStrength", stderr);
     }
 
     [Fact]

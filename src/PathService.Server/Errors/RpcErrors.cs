@@ -25,12 +25,16 @@ public static class RpcErrors
         var bad = new BadRequest();
         // The details travel in a trailer; HTTP/2 clients refuse header blocks beyond 64 KiB (and a model with thousands
         // of duplicated entries has thousands of findings), so only the first ones are listed; the message gives the count.
+        // Each entry is cut to a few hundred characters and the list stops at about 16 KiB, so that even a model with
+        // huge ids cannot push the trailer past the limit.
+        int budget = 16 * 1024;
         foreach (var f in errors.Take(MaxViolations))
-            bad.FieldViolations.Add(new BadRequest.Types.FieldViolation
-            {
-                Field = FieldPaths.ToRequestPath(f.FieldPath),
-                Description = Describe(f),
-            });
+        {
+            var v = new BadRequest.Types.FieldViolation { Field = Cut(FieldPaths.ToRequestPath(f.FieldPath), 200), Description = Cut(Describe(f), 400) };
+            budget -= v.Field.Length + v.Description.Length + 8;
+            if (budget < 0) break;
+            bad.FieldViolations.Add(v);
+        }
         string first = errors.Count > 0 ? Describe(errors[0]) : "the request is invalid";
         string message = errors.Count > 1 ? $"{first} (and {errors.Count - 1} more)" : first;
         return Build(StatusCode.InvalidArgument, message, bad);
@@ -49,7 +53,7 @@ public static class RpcErrors
         {
             Reason = "MECHANISM",
             Domain = Domain,
-            Metadata = { ["node"] = ex.NodeId, ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
+            Metadata = { ["node"] = Cut(ex.NodeId, 200), ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
         });
 
     /// <summary>FAILED_PRECONDITION for a start state that the requested analysis cannot handle (e.g. already unstable).</summary>
@@ -79,6 +83,8 @@ public static class RpcErrors
         Build(StatusCode.ResourceExhausted, $"caller '{caller}' already runs {max} analyses, its limit; retry when one has finished",
             new RetryInfo { RetryDelay = Duration.FromTimeSpan(retryAfter) },
             new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = $"caller:{caller}", Description = $"at most {max} analyses at once per caller" } } });
+
+    private static string Cut(string s, int max) => s.Length <= max ? s : s[..max] + "…";
 
     private static string Describe(ValidationFinding f) =>
         f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{id}')" : f.Message;
