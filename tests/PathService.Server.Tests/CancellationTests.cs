@@ -41,9 +41,25 @@ public class CancellationTests(ServerFixture server)
     [Fact]
     public async Task A_deadline_is_honoured_and_frees_the_analysis()
     {
-        using var call = server.Client.TracePath(LongTrace(), deadline: DateTime.UtcNow.AddMilliseconds(400));
+        // A trace that needs far longer than the deadline: small steps on a larger cap, no location work to end it early.
+        var (model, loads, crown) = DemoStructures.LatticeCap(10);
+        var request = new TracePathRequest
+        {
+            Model = model, LoadCase = loads,
+            Controls = new SolverControls { InitialLoadIncrement = 0.0005, MaxIncrementRatio = 1, MaxPoints = 5000, DetectCriticalPoints = false, Monitored = { crown } },
+        };
+        using var call = server.Client.TracePath(request, deadline: DateTime.UtcNow.AddMilliseconds(400));
         int received = 0;
-        var ex = await Assert.ThrowsAsync<RpcException>(async () => { while (await call.ResponseStream.MoveNext()) received++; });
+        string? ended = null;
+        var ex = await Assert.ThrowsAsync<RpcException>(async () =>
+        {
+            while (await call.ResponseStream.MoveNext())
+            {
+                received++;
+                if (call.ResponseStream.Current.Summary is { } s) ended = $"{s.Reason}: {s.Message} after {s.WallTime}";
+            }
+            Assert.Fail($"the trace ended before its deadline ({ended})");
+        });
         Assert.Equal(StatusCode.DeadlineExceeded, ex.StatusCode);
         Assert.True(received > 0, "no point arrived before the deadline");
         Assert.True(await server.WaitForIdleAsync(TimeSpan.FromSeconds(5)), "the analysis kept running past its deadline");
