@@ -51,16 +51,18 @@ internal sealed class GrpcBackend : IAnalysisBackend
 
     public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct)
     {
-        // Messages handed to the caller so far. A restarted trace repeats the same deterministic stream message for
-        // message (points, step cuts, critical points, branch events), so exactly that many are skipped on a restart.
-        int delivered = 0;
+        // On a restart everything up to and including the last point already delivered is skipped: the path is
+        // deterministic, so the messages between points repeat exactly. The summary is held back until its stream
+        // has ended cleanly, so that a stream cut short after a "cancelled" summary does not end the caller's path.
+        int lastPoint = -1, sincePoint = 0;
         for (int attempt = 0; ; attempt++)
         {
             var call = _client.TracePath(request, cancellationToken: ct);
             var reader = call.ResponseStream;
-            bool failed = false;
+            bool failed = false, resuming = attempt > 0 && lastPoint >= 0;
+            int skipAfter = sincePoint; // cuts, critical points and events already delivered after that point
             Exception? error = null;
-            int skip = delivered;
+            TracePathResponse? summary = null;
             while (true)
             {
                 TracePathResponse current;
@@ -76,12 +78,23 @@ internal sealed class GrpcBackend : IAnalysisBackend
                     break;
                 }
                 catch (RpcException ex) { call.Dispose(); throw Translate(ex); }
-                if (skip > 0) { skip--; continue; }
-                delivered++;
+                if (resuming)
+                {
+                    if (current.UpdateCase == TracePathResponse.UpdateOneofCase.Point && current.Point.Index == lastPoint) resuming = false;
+                    continue;
+                }
+                if (current.UpdateCase == TracePathResponse.UpdateOneofCase.Summary) { summary = current; continue; }
+                if (skipAfter > 0) { skipAfter--; continue; }
+                if (current.UpdateCase == TracePathResponse.UpdateOneofCase.Point) { lastPoint = current.Point.Index; sincePoint = 0; }
+                else sincePoint++;
                 yield return current;
             }
             call.Dispose();
-            if (!failed) yield break;
+            if (!failed)
+            {
+                if (summary is not null) yield return summary;
+                yield break;
+            }
             await Console.Error.WriteLineAsync($"server dropped the trace ({error!.Message}); retrying on another instance (attempt {attempt + 2})");
         }
     }
