@@ -42,13 +42,16 @@ internal sealed class MemberMonitor(StructuralModel m, EquilibriumSystem sys)
     private readonly double[][] _previous = [new double[m.BarCount], new double[m.BarCount], new double[m.BarCount]];
     private double _previousLambda = double.NaN;
 
-    private double[] _committedBefore = new double[m.BarCount];
+    private readonly double[] _committedBefore = new double[m.BarCount];
 
     /// <summary>Keeps the material history of the previous point, for the elastic trial stresses of the next check.</summary>
     public void RememberHistory(ReadOnlySpan<double> u)
     {
-        _committedBefore = (double[])sys.Assembler.PlasticStrain.Clone();
-        _previousU = u.ToArray();
+        // Nothing to remember without member checks: keeps the hot path free of per-point copies.
+        if (!m.HasMemberChecks) return;
+        sys.Assembler.PlasticStrain.CopyTo(_committedBefore, 0);
+        _previousU ??= new double[u.Length];
+        u.CopyTo(_previousU);
     }
 
     private double[]? _previousU;
@@ -56,7 +59,7 @@ internal sealed class MemberMonitor(StructuralModel m, EquilibriumSystem sys)
     /// <summary>Takes the branch's starting point as the previous point when nothing was checked yet.</summary>
     public void Start(double[] u, double lambda)
     {
-        if (_previousU is not null) return;
+        if (_previousU is not null || !m.HasMemberChecks) return;
         RememberHistory(u);
         _previousLambda = lambda;
     }
