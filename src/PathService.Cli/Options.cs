@@ -16,6 +16,9 @@ internal sealed class Options
             if (args[i].StartsWith("--", StringComparison.Ordinal))
             {
                 string name = args[i][2..];
+                // --name=value, which also lets a value start with a minus sign (--amplitudes=-0.001,-0.002).
+                int eq = name.IndexOf('=');
+                if (eq > 0) { o._named[name[..eq]] = name[(eq + 1)..]; continue; }
                 if (Flags.Contains(name)) { o._named[name] = "true"; continue; }
                 if (i + 1 >= args.Length) throw new UsageException($"option --{name} needs a value");
                 o._named[name] = args[++i];

@@ -61,7 +61,10 @@ internal static class SweepCommand
             string length = string.IsNullOrWhiteSpace(trace.Model?.Units?.Length) ? "m" : trace.Model.Units.Length;
             File.WriteAllText(Path.Combine(dir, "knockdown.svg"), KnockDownPlot.Render(new KnockDownInput(
                 $"{trace.Model?.Name}: imperfection sensitivity", $"imperfection amplitude [{length}]", perfect,
-                rows.Where(s => s.HasCriticalLoadFactor).Select(s => new KnockDownPoint(s.Amplitude, s.CriticalLoadFactor)).ToList(), Cautions.Short)));
+                // The perfect structure is the curve's point at zero amplitude.
+                (perfect is { } p0 ? new[] { new KnockDownPoint(0, p0) } : [])
+                    .Concat(rows.Where(s => s.HasCriticalLoadFactor).Select(s => new KnockDownPoint(s.Amplitude, s.CriticalLoadFactor))).ToList(),
+                Cautions.Short)));
             Console.WriteLine($"wrote {Path.Combine(dir, "knockdown.csv")} and {Path.Combine(dir, "knockdown.svg")}");
         }
         Console.WriteLine(Cautions.Short);
