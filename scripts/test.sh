@@ -7,6 +7,10 @@ cd "$(dirname "$0")/.."
 (cd tests/interop && [ -d node_modules/@grpc/grpc-js ] || npm ci --no-audit --no-fund)
 dotnet restore PathService.sln
 dotnet build PathService.sln -c Release --no-restore -nologo
+fuzz_report=tests/PathService.Server.Tests/bin/Release/net10.0/fuzz-report.txt
+rm -f "$fuzz_report"
 dotnet test PathService.sln -c Release --no-build -nologo
+# The fuzz suite's case counts (tens of thousands of mutated requests per run).
+[ -f "$fuzz_report" ] && cat "$fuzz_report"
 bash tests/interop/lint.sh
 bash tests/interop/run.sh

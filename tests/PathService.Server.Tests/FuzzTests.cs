@@ -34,10 +34,14 @@ public sealed class FuzzTests(ITestOutputHelper output) : IAsyncLifetime
     public async Task InitializeAsync() => _server = await TestServer.StartAsync(Settings);
     public async Task DisposeAsync() => await _server.DisposeAsync();
 
+    /// <summary>Where the case counts are appended, so that scripts/test.sh can print them after a quiet test run.</summary>
+    public static string ReportFile => Path.Combine(AppContext.BaseDirectory, "fuzz-report.txt");
+
     private void Report(string line)
     {
         output.WriteLine(line);
         Console.WriteLine(line);
+        lock (typeof(FuzzTests)) File.AppendAllText(ReportFile, line + Environment.NewLine);
     }
 
     [Fact]
