@@ -74,6 +74,60 @@ internal static unsafe class DenseKernels
         for (; i < len; i++) y[i] = Nmadd(t, x[i], y[i]);
     }
 
+    /// <summary>
+    /// y1 -= t1·x and y2 -= t2·x in one pass over x (the two right-hand sides of a solve share the factor's column);
+    /// every element gets exactly the operations of two <see cref="Axpy"/> calls, so results are bit-identical.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    public static void Axpy2(double t1, double t2, double* x, double* y1, double* y2, int len)
+    {
+        int i = 0;
+        if (UseVectors)
+        {
+            var v1 = Vector256.Create(t1);
+            var v2 = Vector256.Create(t2);
+            for (; i + 4 <= len; i += 4)
+            {
+                var xv = Avx.LoadVector256(x + i);
+                Avx.Store(y1 + i, VNmadd(v1, xv, Avx.LoadVector256(y1 + i)));
+                Avx.Store(y2 + i, VNmadd(v2, xv, Avx.LoadVector256(y2 + i)));
+            }
+        }
+        for (; i < len; i++) { y1[i] = Nmadd(t1, x[i], y1[i]); y2[i] = Nmadd(t2, x[i], y2[i]); }
+    }
+
+    /// <summary>x·y1 and x·y2 in one pass over x, each accumulated exactly as <see cref="Dot"/> does.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    public static void Dot2(double* x, double* y1, double* y2, int len, out double d1, out double d2)
+    {
+        int i = 0;
+        double a0 = 0, a1 = 0, a2 = 0, a3 = 0, b0 = 0, b1 = 0, b2 = 0, b3 = 0;
+        if (UseVectors)
+        {
+            var acc1 = Vector256<double>.Zero;
+            var acc2 = Vector256<double>.Zero;
+            for (; i + 4 <= len; i += 4)
+            {
+                var xv = Avx.LoadVector256(x + i);
+                acc1 = VMadd(xv, Avx.LoadVector256(y1 + i), acc1);
+                acc2 = VMadd(xv, Avx.LoadVector256(y2 + i), acc2);
+            }
+            a0 = acc1.GetElement(0); a1 = acc1.GetElement(1); a2 = acc1.GetElement(2); a3 = acc1.GetElement(3);
+            b0 = acc2.GetElement(0); b1 = acc2.GetElement(1); b2 = acc2.GetElement(2); b3 = acc2.GetElement(3);
+        }
+        else
+        {
+            for (; i + 4 <= len; i += 4)
+            {
+                a0 = Madd(x[i], y1[i], a0); a1 = Madd(x[i + 1], y1[i + 1], a1); a2 = Madd(x[i + 2], y1[i + 2], a2); a3 = Madd(x[i + 3], y1[i + 3], a3);
+                b0 = Madd(x[i], y2[i], b0); b1 = Madd(x[i + 1], y2[i + 1], b1); b2 = Madd(x[i + 2], y2[i + 2], b2); b3 = Madd(x[i + 3], y2[i + 3], b3);
+            }
+        }
+        for (; i < len; i++) { a0 = Madd(x[i], y1[i], a0); b0 = Madd(x[i], y2[i], b0); }
+        d1 = (a0 + a1) + (a2 + a3);
+        d2 = (b0 + b1) + (b2 + b3);
+    }
+
     /// <summary>sum_i x[i] y[i], accumulated in 4 lanes (vector width) then added lane 0..3; the same on every path.</summary>
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static double Dot(double* x, double* y, int len)

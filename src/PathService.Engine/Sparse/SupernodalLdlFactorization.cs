@@ -414,18 +414,14 @@ public sealed unsafe class SupernodalLdlFactorization : ISymmetricFactorization
             double* xs = x + f, ys = y + f;
             for (int j = 0; j < nc; j++)
             {
-                double* col = l + (long)j * nf + j + 1;
-                DenseKernels.Axpy(xs[j], col, xs + j + 1, nc - j - 1);
-                DenseKernels.Axpy(ys[j], col, ys + j + 1, nc - j - 1);
+                DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + j + 1, xs + j + 1, ys + j + 1, nc - j - 1);
             }
             if (nr == 0) continue;
             new Span<double>(t, nr).Clear();
             new Span<double>(t2, nr).Clear();
             for (int j = 0; j < nc; j++)
             {
-                double* col = l + (long)j * nf + nc;
-                DenseKernels.Axpy(xs[j], col, t, nr);
-                DenseKernels.Axpy(ys[j], col, t2, nr);
+                DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + nc, t, t2, nr);
             }
             for (int r = 0; r < nr; r++) { int i = rows[rp + r]; x[i] += t[r]; y[i] += t2[r]; }
         }
@@ -445,8 +441,10 @@ public sealed unsafe class SupernodalLdlFactorization : ISymmetricFactorization
             for (int j = nc - 1; j >= 0; j--)
             {
                 double* col = l + (long)j * nf;
-                xs[j] -= DenseKernels.Dot(col + j + 1, xs + j + 1, nc - j - 1) + DenseKernels.Dot(col + nc, t, nr);
-                ys[j] -= DenseKernels.Dot(col + j + 1, ys + j + 1, nc - j - 1) + DenseKernels.Dot(col + nc, t2, nr);
+                DenseKernels.Dot2(col + j + 1, xs + j + 1, ys + j + 1, nc - j - 1, out double dx, out double dy);
+                DenseKernels.Dot2(col + nc, t, t2, nr, out double ex, out double ey);
+                xs[j] -= dx + ex;
+                ys[j] -= dy + ey;
             }
         }
     }
