@@ -96,39 +96,8 @@ internal sealed class InProcessBackend : IAnalysisBackend
         catch (ModelValidationException ex) { throw Rejected(ex); }
         using var events = Engine.Stability.ImperfectionSweep.Run(def, controls, shapes, weights, amplitudes, ct).GetEnumerator();
         while (await Task.Run(events.MoveNext, CancellationToken.None))
-        {
-            yield return events.Current switch
-            {
-                Engine.Stability.SweepReference r => new SweepImperfectionsResponse
-                {
-                    Reference = WithLoad(new Contracts.V1.SweepReference { Kind = Kind(r.Kind), Reason = ResultMapper.ToReason(r.Reason), Message = r.Message }, r.CriticalLoadFactor),
-                },
-                Engine.Stability.SweepResult x => new SweepImperfectionsResponse { Result = ToResult(x) },
-                _ => throw new NotSupportedException(),
-            };
-        }
+            yield return ResultMapper.ToSweepResponse(events.Current);
     }
-
-    private static Contracts.V1.SweepReference WithLoad(Contracts.V1.SweepReference r, double? load)
-    {
-        if (load is { } l) r.CriticalLoadFactor = l;
-        return r;
-    }
-
-    private static Contracts.V1.SweepResult ToResult(Engine.Stability.SweepResult s)
-    {
-        var m = new Contracts.V1.SweepResult { Index = s.Index, Amplitude = s.Amplitude, Kind = Kind(s.Kind), Reason = ResultMapper.ToReason(s.Reason), Message = s.Message, Points = s.Points };
-        if (s.CriticalLoadFactor is { } l) m.CriticalLoadFactor = l;
-        if (s.KnockDown is { } k) m.KnockDown = k;
-        return m;
-    }
-
-    private static Contracts.V1.CriticalPointKind Kind(Engine.Continuation.CriticalPointKind? k) => k switch
-    {
-        Engine.Continuation.CriticalPointKind.LimitPoint => Contracts.V1.CriticalPointKind.LimitPoint,
-        Engine.Continuation.CriticalPointKind.Bifurcation => Contracts.V1.CriticalPointKind.Bifurcation,
-        _ => Contracts.V1.CriticalPointKind.Unspecified,
-    };
 
     public ValueTask DisposeAsync() => ValueTask.CompletedTask;
 

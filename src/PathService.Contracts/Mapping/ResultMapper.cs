@@ -58,7 +58,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         var m = new Proto.CriticalPoint
         {
             Sequence = c.Sequence, Branch = c.Branch,
-            Kind = c.Kind == CriticalPointKind.LimitPoint ? Proto.CriticalPointKind.LimitPoint : Proto.CriticalPointKind.Bifurcation,
+            Kind = ToKind(c.Kind),
             LoadFactor = c.LoadFactor, LoadFactorBefore = c.LoadFactorBefore, LoadFactorAfter = c.LoadFactorAfter,
             PointBefore = c.PointBefore, PointAfter = c.PointAfter,
             NegativePivotsBefore = c.NegativePivotsBefore, NegativePivotsAfter = c.NegativePivotsAfter,
@@ -90,6 +90,36 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         },
         Bar = e.BarId, Point = e.Point, LoadFactor = e.LoadFactor, AxialForce = e.AxialForce, Utilisation = e.Utilisation,
         OnsetLoadFactor = e.OnsetLoadFactor, Branch = e.Branch,
+    };
+
+    /// <summary>One item of a knock-down sweep as its stream message.</summary>
+    public static Proto.SweepImperfectionsResponse ToSweepResponse(Engine.Stability.SweepEvent e) => e switch
+    {
+        Engine.Stability.SweepReference r => new() { Reference = ToReference(r) },
+        Engine.Stability.SweepResult x => new() { Result = ToResult(x) },
+        _ => throw new NotSupportedException($"unknown sweep event {e.GetType().Name}"),
+    };
+
+    private static Proto.SweepReference ToReference(Engine.Stability.SweepReference r)
+    {
+        var m = new Proto.SweepReference { Kind = ToKind(r.Kind), Reason = ToReason(r.Reason), Message = r.Message };
+        if (r.CriticalLoadFactor is { } l) m.CriticalLoadFactor = l;
+        return m;
+    }
+
+    private static Proto.SweepResult ToResult(Engine.Stability.SweepResult s)
+    {
+        var m = new Proto.SweepResult { Index = s.Index, Amplitude = s.Amplitude, Kind = ToKind(s.Kind), Reason = ToReason(s.Reason), Message = s.Message, Points = s.Points };
+        if (s.CriticalLoadFactor is { } l) m.CriticalLoadFactor = l;
+        if (s.KnockDown is { } k) m.KnockDown = k;
+        return m;
+    }
+
+    public static Proto.CriticalPointKind ToKind(CriticalPointKind? k) => k switch
+    {
+        CriticalPointKind.LimitPoint => Proto.CriticalPointKind.LimitPoint,
+        CriticalPointKind.Bifurcation => Proto.CriticalPointKind.Bifurcation,
+        _ => Proto.CriticalPointKind.Unspecified,
     };
 
     public static Proto.StopReason ToReason(StopReason r) => r switch

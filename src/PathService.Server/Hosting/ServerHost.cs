@@ -90,6 +90,7 @@ public static class ServerHost
             return new AnalysisGate(Math.Max(1, l.MaxConcurrentAnalyses), l.MaxQueuedAnalyses, TimeSpan.FromSeconds(Math.Max(0, l.QueueTimeoutSeconds)));
         });
         builder.Services.AddSingleton<TraceStreamer>();
+        builder.Services.AddSingleton<AnalysisFrame>();
 
         customize?.Invoke(builder);
 

@@ -22,8 +22,7 @@ namespace PathService.Server.Services;
 /// mechanics live in <see cref="TraceStreamer"/>.
 /// </summary>
 public sealed class StructuralPathGrpcService(
-    RequestLimits limits, AnalysisGate gate, CallerLimiter callers, ShutdownCoordinator shutdown,
-    PathServiceTelemetry telemetry, TraceStreamer streamer,
+    RequestLimits limits, AnalysisFrame frame, TraceStreamer streamer,
     ILogger<StructuralPathGrpcService> logger) : StructuralPathService.StructuralPathServiceBase
 {
     /// <summary>Informational version of the engine assembly, reported in every trace summary.</summary>
@@ -41,12 +40,12 @@ public sealed class StructuralPathGrpcService(
     public static string Fingerprint(IMessage request) => Convert.ToHexStringLower(SHA256.HashData(request.ToByteArray()));
 
     public override Task TracePath(TracePathRequest request, IServerStreamWriter<TracePathResponse> responseStream, ServerCallContext context) =>
-        RunAnalysis("TracePath", request.Model, context, () =>
+        frame.RunAsync("TracePath", request.Model, context, () =>
         {
             limits.CheckControls(request.Controls);
-            var model = BuildModel(request.Model, request.LoadCase, request.Imperfection);
+            var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase, request.Imperfection);
             var controls = ControlsMapper.ToControls(request.Controls, limits.DefaultMaxPoints, limits.MaxTraceTime);
-            CheckMemory(model, 0);
+            frame.CheckMemory(model, 0);
             string fingerprint = Fingerprint(request);
             return async ct =>
             {
@@ -95,12 +94,12 @@ public sealed class StructuralPathGrpcService(
     public override async Task<AnalyzeLinearResponse> AnalyzeLinear(AnalyzeLinearRequest request, ServerCallContext context)
     {
         AnalyzeLinearResponse? response = null;
-        await RunAnalysis("AnalyzeLinear", request.Model, context, () =>
+        await frame.RunAsync("AnalyzeLinear", request.Model, context, () =>
         {
             double lf = request.HasLoadFactor ? request.LoadFactor : 1.0;
             if (!double.IsFinite(lf)) throw RpcErrors.InvalidField("load_factor", $"load_factor is {lf}; it must be finite");
-            var model = BuildModel(request.Model, request.LoadCase);
-            CheckMemory(model, 0);
+            var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
+            frame.CheckMemory(model, 0);
             return _ =>
             {
             var result = LinearStaticAnalysis.Run(model, lf);
@@ -122,14 +121,14 @@ public sealed class StructuralPathGrpcService(
     public override async Task<FindBucklingModesResponse> FindBucklingModes(FindBucklingModesRequest request, ServerCallContext context)
     {
         FindBucklingModesResponse? response = null;
-        await RunAnalysis("FindBucklingModes", request.Model, context, () =>
+        await frame.RunAsync("FindBucklingModes", request.Model, context, () =>
         {
             int count = request.HasModeCount ? request.ModeCount : 3;
             if (count < 1 || count > limits.Values.MaxBucklingModes)
                 throw RpcErrors.InvalidField("mode_count", $"mode_count is {count}; it must be 1..{limits.Values.MaxBucklingModes}");
-            var model = BuildModel(request.Model, request.LoadCase);
+            var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
             // The subspace iteration keeps four dense blocks of q = max(2p, p + 8) vectors, plus the two matrices.
-            CheckMemory(model, 4 * Math.Max(2 * count, count + 8));
+            frame.CheckMemory(model, 4 * Math.Max(2 * count, count + 8));
             return _ =>
             {
             LinearBucklingResult result;
@@ -154,114 +153,4 @@ public sealed class StructuralPathGrpcService(
         return response!;
     }
 
-    /// <summary>
-    /// Common frame of every analysis: one span, the started/completed/failed counters, the limits, an analysis slot,
-    /// and the translation of engine exceptions into status codes. Everything that can refuse a request runs before
-    /// the slot is taken, in this order: shutdown, size limits, <paramref name="prepare"/> (mapping, validation,
-    /// memory estimate; it returns the analysis itself), the caller's own cap, the bounded queue. The analysis gets a
-    /// token that the call's cancellation, its deadline and the end of a shutdown's grace period all cancel; it returns
-    /// the outcome tag.
-    /// </summary>
-    private async Task RunAnalysis(string rpc, StructureModel? model, ServerCallContext context, Func<Func<CancellationToken, Task<string>>> prepare)
-    {
-        using var activity = PathServiceTelemetry.Source.StartActivity($"pathservice.{rpc}", ActivityKind.Internal);
-        activity?.SetTag("pathservice.nodes", model?.Nodes.Count ?? 0);
-        activity?.SetTag("pathservice.bars", model?.Bars.Count ?? 0);
-        var rpcTag = new KeyValuePair<string, object?>("rpc", rpc);
-        telemetry.AnalysesStarted.Add(1, rpcTag);
-        var caller = ApiKeyInterceptor.CallerOf(context);
-        // Log scope: counts, a truncated model name and the caller's name; never the model itself, never a key.
-        using var scope = logger.BeginScope(new Dictionary<string, object?>
-        {
-            ["Rpc"] = rpc,
-            ["Caller"] = caller.Name,
-            ["ModelName"] = Truncate(model?.Name),
-            ["Nodes"] = model?.Nodes.Count ?? 0,
-            ["Bars"] = model?.Bars.Count ?? 0,
-        });
-        using var abort = CancellationTokenSource.CreateLinkedTokenSource(context.CancellationToken, shutdown.AbortToken);
-        try
-        {
-            ThrowIfDraining();
-            limits.CheckModelSize(model);
-            var run = prepare();
-            using var perCaller = caller.MaxConcurrentAnalyses > 0
-                ? callers.TryEnter(caller.Name, caller.MaxConcurrentAnalyses) ?? throw RpcErrors.CallerBusy(caller.Name, caller.MaxConcurrentAnalyses, Retry)
-                : null;
-            var (lease, refusal) = await gate.EnterAsync(abort.Token);
-            using var _ = lease;
-            if (lease is null)
-                throw refusal == GateRefusal.QueueTimeout
-                    ? RpcErrors.QueueTimeout(gate.Capacity, gate.QueueTimeout, Retry)
-                    : RpcErrors.Busy(gate.Capacity, Retry, gate.QueueCapacity);
-            ThrowIfDraining();
-            telemetry.AnalysesActive.Add(1);
-            string outcome;
-            try { outcome = await run(abort.Token); }
-            finally { telemetry.AnalysesActive.Add(-1); }
-            telemetry.AnalysesCompleted.Add(1, rpcTag, new("outcome", outcome));
-            activity?.SetTag("pathservice.outcome", outcome);
-        }
-        catch (Exception ex)
-        {
-            var rpcEx = Translate(ex, context.CancellationToken, shutdown.AbortToken);
-            string reason = rpcEx?.StatusCode.ToString() ?? ex.GetType().Name;
-            telemetry.AnalysesFailed.Add(1, rpcTag, new("reason", reason));
-            activity?.SetStatus(ActivityStatusCode.Error, reason);
-            if (rpcEx is null)
-            {
-                // A genuine server fault. Logged with its type and stack but without the exception message, which may
-                // quote request values; the caller gets INTERNAL without details.
-                logger.LogError("{Rpc} failed unexpectedly: {ExceptionType}{NewLine}{StackTrace}", rpc, ex.GetType().FullName, Environment.NewLine, ex.StackTrace);
-                throw new RpcException(new Status(StatusCode.Internal, "internal error of the analysis service"));
-            }
-            if (rpcEx.StatusCode is StatusCode.Cancelled or StatusCode.DeadlineExceeded)
-                logger.LogInformation("{Rpc} cancelled by the caller", rpc);
-            else
-                logger.LogInformation("{Rpc} refused with {StatusCode}: {Detail}", rpc, rpcEx.StatusCode, Truncate(rpcEx.Status.Detail, 300));
-            if (ReferenceEquals(rpcEx, ex)) throw;
-            throw rpcEx;
-        }
-    }
-
-    private TimeSpan Retry => TimeSpan.FromSeconds(limits.Values.RetryAfterSeconds);
-
-    private void ThrowIfDraining()
-    {
-        if (shutdown.Draining) throw new RpcException(new Status(StatusCode.Unavailable, "the server is shutting down; retry on another instance"));
-    }
-
-    /// <summary>RESOURCE_EXHAUSTED when the estimated memory of the analysis exceeds the configured budget.</summary>
-    private void CheckMemory(StructuralModel model, int extraVectors)
-    {
-        double mib = limits.Values.MaxAnalysisMemoryMiB;
-        if (mib <= 0) return;
-        long budget = (long)(mib * 1024 * 1024);
-        var estimate = AnalysisMemory.Of(model, budget, extraVectors);
-        if (estimate.Bytes > budget)
-            throw RpcErrors.TooLarge("model", "analysis_memory",
-                $"the analysis of this model needs about {estimate.Bytes / (1024.0 * 1024):F0} MiB ({estimate.FactorEntries} factor entries for {model.Dofs.FreeCount} free DOFs); this server allows {mib:F0} MiB per analysis");
-    }
-
-    /// <summary>Maps a failure to the status the caller should see; null for a genuine server fault (then INTERNAL).</summary>
-    private static RpcException? Translate(Exception ex, CancellationToken call, CancellationToken abort) => ex switch
-    {
-        RpcException r => r,
-        ModelValidationException v => RpcErrors.Invalid(v.Findings),
-        MechanismException m => RpcErrors.Mechanism(m),
-        OperationCanceledException when abort.IsCancellationRequested && !call.IsCancellationRequested =>
-            new RpcException(new Status(StatusCode.Unavailable, "the server shut down before the analysis finished; retry on another instance")),
-        OperationCanceledException => new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled")),
-        _ => null,
-    };
-
-    private static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads, Imperfection? imperfection = null)
-    {
-        var definition = ModelMapper.ToDefinition(proto, loads);
-        var findings = ModelValidator.Validate(definition);
-        if (findings.Any(f => f.Severity == FindingSeverity.Error)) throw RpcErrors.Invalid(findings);
-        return StructuralModel.Create(ImperfectionMapper.Apply(definition, imperfection));
-    }
-
-    private static string Truncate(string? s, int max = 64) => s is null ? "" : s.Length <= max ? s : s[..max] + "…";
 }

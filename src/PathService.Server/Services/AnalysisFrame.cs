@@ -1,0 +1,133 @@
+using System.Diagnostics;
+using Grpc.Core;
+using PathService.Contracts.Mapping;
+using PathService.Contracts.V1;
+using PathService.Engine.Model;
+using PathService.Server.Errors;
+using PathService.Server.Hosting;
+using PathService.Server.Limits;
+using PathService.Server.Security;
+using PathService.Server.Telemetry;
+using FindingSeverity = PathService.Engine.Model.FindingSeverity;
+
+namespace PathService.Server.Services;
+
+/// <summary>
+/// What every analysis RPC shares, whichever gRPC service it belongs to: the span and counters, shutdown, size and
+/// memory limits, the caller's cap, the bounded queue, and the translation of engine exceptions into statuses.
+/// </summary>
+public sealed class AnalysisFrame(
+    RequestLimits limits, AnalysisGate gate, CallerLimiter callers, ShutdownCoordinator shutdown,
+    PathServiceTelemetry telemetry, ILogger<AnalysisFrame> logger)
+{
+    /// <summary>
+    /// Common frame of every analysis: one span, the started/completed/failed counters, the limits, an analysis slot,
+    /// and the translation of engine exceptions into status codes. Everything that can refuse a request runs before
+    /// the slot is taken, in this order: shutdown, size limits, <paramref name="prepare"/> (mapping, validation,
+    /// memory estimate; it returns the analysis itself), the caller's own cap, the bounded queue. The analysis gets a
+    /// token that the call's cancellation, its deadline and the end of a shutdown's grace period all cancel; it returns
+    /// the outcome tag.
+    /// </summary>
+    public async Task RunAsync(string rpc, StructureModel? model, ServerCallContext context, Func<Func<CancellationToken, Task<string>>> prepare)
+    {
+        using var activity = PathServiceTelemetry.Source.StartActivity($"pathservice.{rpc}", ActivityKind.Internal);
+        activity?.SetTag("pathservice.nodes", model?.Nodes.Count ?? 0);
+        activity?.SetTag("pathservice.bars", model?.Bars.Count ?? 0);
+        var rpcTag = new KeyValuePair<string, object?>("rpc", rpc);
+        telemetry.AnalysesStarted.Add(1, rpcTag);
+        var caller = ApiKeyInterceptor.CallerOf(context);
+        // Log scope: counts, a truncated model name and the caller's name; never the model itself, never a key.
+        using var scope = logger.BeginScope(new Dictionary<string, object?>
+        {
+            ["Rpc"] = rpc,
+            ["Caller"] = caller.Name,
+            ["ModelName"] = Truncate(model?.Name),
+            ["Nodes"] = model?.Nodes.Count ?? 0,
+            ["Bars"] = model?.Bars.Count ?? 0,
+        });
+        using var abort = CancellationTokenSource.CreateLinkedTokenSource(context.CancellationToken, shutdown.AbortToken);
+        try
+        {
+            ThrowIfDraining();
+            limits.CheckModelSize(model);
+            var run = prepare();
+            using var perCaller = caller.MaxConcurrentAnalyses > 0
+                ? callers.TryEnter(caller.Name, caller.MaxConcurrentAnalyses) ?? throw RpcErrors.CallerBusy(caller.Name, caller.MaxConcurrentAnalyses, Retry)
+                : null;
+            var (lease, refusal) = await gate.EnterAsync(abort.Token);
+            using var _ = lease;
+            if (lease is null)
+                throw refusal == GateRefusal.QueueTimeout
+                    ? RpcErrors.QueueTimeout(gate.Capacity, gate.QueueTimeout, Retry)
+                    : RpcErrors.Busy(gate.Capacity, Retry, gate.QueueCapacity);
+            ThrowIfDraining();
+            telemetry.AnalysesActive.Add(1);
+            string outcome;
+            try { outcome = await run(abort.Token); }
+            finally { telemetry.AnalysesActive.Add(-1); }
+            telemetry.AnalysesCompleted.Add(1, rpcTag, new("outcome", outcome));
+            activity?.SetTag("pathservice.outcome", outcome);
+        }
+        catch (Exception ex)
+        {
+            var rpcEx = Translate(ex, context.CancellationToken, shutdown.AbortToken);
+            string reason = rpcEx?.StatusCode.ToString() ?? ex.GetType().Name;
+            telemetry.AnalysesFailed.Add(1, rpcTag, new("reason", reason));
+            activity?.SetStatus(ActivityStatusCode.Error, reason);
+            if (rpcEx is null)
+            {
+                // A genuine server fault. Logged with its type and stack but without the exception message, which may
+                // quote request values; the caller gets INTERNAL without details.
+                logger.LogError("{Rpc} failed unexpectedly: {ExceptionType}{NewLine}{StackTrace}", rpc, ex.GetType().FullName, Environment.NewLine, ex.StackTrace);
+                throw new RpcException(new Status(StatusCode.Internal, "internal error of the analysis service"));
+            }
+            if (rpcEx.StatusCode is StatusCode.Cancelled or StatusCode.DeadlineExceeded)
+                logger.LogInformation("{Rpc} cancelled by the caller", rpc);
+            else
+                logger.LogInformation("{Rpc} refused with {StatusCode}: {Detail}", rpc, rpcEx.StatusCode, Truncate(rpcEx.Status.Detail, 300));
+            if (ReferenceEquals(rpcEx, ex)) throw;
+            throw rpcEx;
+        }
+    }
+
+    private TimeSpan Retry => TimeSpan.FromSeconds(limits.Values.RetryAfterSeconds);
+
+    private void ThrowIfDraining()
+    {
+        if (shutdown.Draining) throw new RpcException(new Status(StatusCode.Unavailable, "the server is shutting down; retry on another instance"));
+    }
+
+    /// <summary>RESOURCE_EXHAUSTED when the estimated memory of the analysis exceeds the configured budget.</summary>
+    public void CheckMemory(StructuralModel model, int extraVectors)
+    {
+        double mib = limits.Values.MaxAnalysisMemoryMiB;
+        if (mib <= 0) return;
+        long budget = (long)(mib * 1024 * 1024);
+        var estimate = AnalysisMemory.Of(model, budget, extraVectors);
+        if (estimate.Bytes > budget)
+            throw RpcErrors.TooLarge("model", "analysis_memory",
+                $"the analysis of this model needs about {estimate.Bytes / (1024.0 * 1024):F0} MiB ({estimate.FactorEntries} factor entries for {model.Dofs.FreeCount} free DOFs); this server allows {mib:F0} MiB per analysis");
+    }
+
+    /// <summary>Maps a failure to the status the caller should see; null for a genuine server fault (then INTERNAL).</summary>
+    private static RpcException? Translate(Exception ex, CancellationToken call, CancellationToken abort) => ex switch
+    {
+        RpcException r => r,
+        ModelValidationException v => RpcErrors.Invalid(v.Findings),
+        MechanismException m => RpcErrors.Mechanism(m),
+        OperationCanceledException when abort.IsCancellationRequested && !call.IsCancellationRequested =>
+            new RpcException(new Status(StatusCode.Unavailable, "the server shut down before the analysis finished; retry on another instance")),
+        OperationCanceledException => new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled")),
+        _ => null,
+    };
+
+    public static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads, Imperfection? imperfection = null)
+    {
+        var definition = ModelMapper.ToDefinition(proto, loads);
+        var findings = ModelValidator.Validate(definition);
+        if (findings.Any(f => f.Severity == FindingSeverity.Error)) throw RpcErrors.Invalid(findings);
+        return StructuralModel.Create(ImperfectionMapper.Apply(definition, imperfection));
+    }
+
+    private static string Truncate(string? s, int max = 64) => s is null ? "" : s.Length <= max ? s : s[..max] + "…";
+}
