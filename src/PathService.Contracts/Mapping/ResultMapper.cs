@@ -150,14 +150,11 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             });
         for (int b = 0; b < model.BarCount; b++)
             s.Bars.Add(new Proto.BarState { Bar = model.BarIds[b], AxialForce = barForces[b], Strain = barStrains?[b] ?? barForces[b] / (model.BarModulus[b] * model.BarArea[b]) });
+        double[] full = u as double[] ?? u.ToArray();
         for (int i = 0; i < model.GroundSpringIds.Length; i++)
-            s.Springs.Add(new Proto.SpringState { Spring = model.GroundSpringIds[i], Force = model.GroundSpringStiffness[i] * u[model.GroundSpringDof[i]] });
+            s.Springs.Add(new Proto.SpringState { Spring = model.GroundSpringIds[i], Force = Engine.Elements.SpringForces.GroundForce(model, full, i) });
         for (int i = 0; i < model.LinkSpringIds.Length; i++)
-            s.Springs.Add(new Proto.SpringState
-            {
-                Spring = model.LinkSpringIds[i],
-                Force = model.LinkSpringStiffness[i] * (u[model.LinkSpringEndDof[i]] - u[model.LinkSpringStartDof[i]]),
-            });
+            s.Springs.Add(new Proto.SpringState { Spring = model.LinkSpringIds[i], Force = Engine.Elements.SpringForces.LinkForce(model, full, i) });
         return s;
     }
 

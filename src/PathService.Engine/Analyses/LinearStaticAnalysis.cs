@@ -79,14 +79,6 @@ public static class LinearStaticAnalysis
                 f[j + k] += t;
             }
         }
-        for (int s = 0; s < m.GroundSpringStiffness.Length; s++)
-            f[m.GroundSpringDof[s]] += m.GroundSpringStiffness[s] * u[m.GroundSpringDof[s]];
-        for (int s = 0; s < m.LinkSpringStiffness.Length; s++)
-        {
-            int i = m.LinkSpringStartDof[s], j = m.LinkSpringEndDof[s];
-            double t = m.LinkSpringStiffness[s] * (u[j] - u[i]);
-            f[i] -= t;
-            f[j] += t;
-        }
+        Elements.SpringForces.AddInternalForce(m, u, f);
     }
 }

@@ -135,15 +135,7 @@ public sealed class StructureAssembler
             _work.Begin(AssemblyWork.Phase.GatherForces, pu, pf, TangentParts.Consistent, null);
             _team.Run(_work, _team.Threads);
         }
-        for (int s = 0; s < _m.GroundSpringStiffness.Length; s++)
-            force[_m.GroundSpringDof[s]] += _m.GroundSpringStiffness[s] * displacement[_m.GroundSpringDof[s]];
-        for (int s = 0; s < _m.LinkSpringStiffness.Length; s++)
-        {
-            int i = _m.LinkSpringStartDof[s], j = _m.LinkSpringEndDof[s];
-            double t = _m.LinkSpringStiffness[s] * (displacement[j] - displacement[i]);
-            force[i] -= t;
-            force[j] += t;
-        }
+        SpringForces.AddInternalForce(_m, displacement, force);
     }
 
     /// <summary>
