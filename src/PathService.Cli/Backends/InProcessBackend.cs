@@ -37,16 +37,8 @@ internal sealed class InProcessBackend : IAnalysisBackend
         }
     }
 
-    public Task<CheckModelResponse> CheckAsync(CheckModelRequest request, CancellationToken ct)
-    {
-        var def = ModelMapper.ToDefinition(request.Model, request.LoadCase);
-        var findings = ModelValidator.Validate(def).ToList();
-        if (request.Controls is not null && findings.All(f => f.Severity != Engine.Model.FindingSeverity.Error))
-            findings.AddRange(ControlsMapper.ToControls(request.Controls, 100, null).Validate(StructuralModel.Create(def)));
-        var response = new CheckModelResponse { Valid = findings.All(f => f.Severity != Engine.Model.FindingSeverity.Error), Units = ModelMapper.ToUnits(def.Units) };
-        response.Findings.AddRange(findings.Select(ResultMapper.ToFinding));
-        return Task.FromResult(response);
-    }
+    public Task<CheckModelResponse> CheckAsync(CheckModelRequest request, CancellationToken ct) =>
+        Task.FromResult(ModelCheck.Run(request, 100, null).Response);
 
     public Task<AnalyzeLinearResponse> LinearAsync(AnalyzeLinearRequest request, CancellationToken ct)
     {

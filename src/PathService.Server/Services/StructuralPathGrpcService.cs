@@ -34,9 +34,6 @@ public sealed class StructuralPathGrpcService(
     /// SHA-256 (lower-case hex) of the request as the protobuf runtime serialises it: fields in field-number order,
     /// unknown fields kept. Two requests with the same fingerprint are the same analysis and give the same path.
     /// </summary>
-    /// <summary>Findings listed by CheckModel at most.</summary>
-    public const int MaxFindings = 1000;
-
     public static string Fingerprint(IMessage request) => Convert.ToHexStringLower(SHA256.HashData(request.ToByteArray()));
 
     public override Task TracePath(TracePathRequest request, IServerStreamWriter<TracePathResponse> responseStream, ServerCallContext context) =>
@@ -66,28 +63,8 @@ public sealed class StructuralPathGrpcService(
     {
         // Validation only: cheap, so it takes no analysis slot and is not counted as an analysis.
         limits.CheckModelSize(request.Model);
-        var definition = ModelMapper.ToDefinition(request.Model, request.LoadCase);
-        var findings = ModelValidator.Validate(definition).ToList();
-        if (request.Controls is not null && findings.All(f => f.Severity != FindingSeverity.Error))
-        {
-            var model = StructuralModel.Create(definition);
-            findings.AddRange(ControlsMapper.ToControls(request.Controls, limits.DefaultMaxPoints, limits.MaxTraceTime).Validate(model));
-        }
-        var response = new CheckModelResponse
-        {
-            Valid = findings.All(f => f.Severity != FindingSeverity.Error),
-            Units = ModelMapper.ToUnits(definition.Units),
-        };
-        // Bounded: a model of many duplicated entries has a finding per entry; past the cap one warning gives the count.
-        response.Findings.AddRange(findings.Take(MaxFindings).Select(ResultMapper.ToFinding));
-        if (findings.Count > MaxFindings)
-            response.Findings.Add(new Finding
-            {
-                Severity = Contracts.V1.FindingSeverity.Warning, Code = "FINDINGS_TRUNCATED", Field = "model",
-                Message = $"{findings.Count - MaxFindings} more findings are not listed ({findings.Count} in all); fix the ones above and check again",
-            });
-        logger.LogInformation("Model check: {Errors} errors, {Warnings} warnings",
-            findings.Count(f => f.Severity == FindingSeverity.Error), findings.Count(f => f.Severity == FindingSeverity.Warning));
+        var (response, errors, warnings) = ModelCheck.Run(request, limits.DefaultMaxPoints, limits.MaxTraceTime);
+        logger.LogInformation("Model check: {Errors} errors, {Warnings} warnings", errors, warnings);
         return Task.FromResult(response);
     }
 
