@@ -93,9 +93,12 @@ internal sealed class EquilibriumSystem
         var m = Model;
         var forces = new double[m.BarCount];
         var strains = new double[m.BarCount];
-        Assembler.BarForces(u, forces);
         for (int b = 0; b < m.BarCount; b++)
-            strains[b] = Elements.BarKinematics.Evaluate(m, u, b, Assembler.PlasticStrain[b]).Strain;
+        {
+            var bar = Elements.BarKinematics.Evaluate(m, u, b, Assembler.PlasticStrain[b]);
+            forces[b] = Elements.BarKinematics.AxialForce(bar, m.BarArea[b], m.BarLength[b]);
+            strains[b] = bar.Strain;
+        }
         var reactions = new double[3 * m.NodeCount];
         Assembler.InternalForce(u, _force);
         var eq = m.Dofs.EquationOf;

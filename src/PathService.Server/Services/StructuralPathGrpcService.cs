@@ -112,14 +112,6 @@ public sealed class StructuralPathGrpcService(
             try { result = LinearBucklingAnalysis.Run(model, count); }
             catch (ArgumentOutOfRangeException ex) { throw RpcErrors.InvalidField("mode_count", ex.Message); }
             catch (InvalidOperationException ex) { throw RpcErrors.Precondition("UNSTABLE_START", ex.Message); }
-            // Engine workaround: the Rayleigh-Ritz step's dense Cholesky (MathNet) throws ArgumentException when the
-            // reduced stiffness is not positive definite, e.g. for a structure with a single free DOF. That is a
-            // property of the model, not a server fault.
-            catch (ArgumentException ex) when (ex.TargetSite?.DeclaringType?.Namespace?.StartsWith("MathNet", StringComparison.Ordinal) == true)
-            {
-                throw RpcErrors.Precondition("BUCKLING_NOT_SOLVABLE",
-                    "the linearised buckling problem of this model could not be solved: the reduced stiffness of the subspace iteration is not positive definite (a structure with very few free DOFs, or a load that does not compress it)");
-            }
             var mapper = new ResultMapper(model, []);
             response = new FindBucklingModesResponse { Iterations = result.Iterations, Converged = result.Converged, Units = ModelMapper.ToUnits(model.Units) };
             response.Modes.AddRange(result.Modes.Select(mapper.ToMode));
