@@ -31,4 +31,17 @@ public class SweepTests
         }
         finally { Directory.Delete(dir, true); }
     }
+
+    [Theory]
+    [InlineData("--amplitudes", "0.001,abc", "'abc' is not a number")]
+    [InlineData("--unit", "inches", "--unit must be 'length' or 'span'")]
+    public async Task Bad_sweep_options_exit_1_naming_the_option(string option, string value, string message)
+    {
+        string[] args = option == "--amplitudes"
+            ? ["sweep", Repo.Example("market-hall-dome.json"), option, value]
+            : ["sweep", Repo.Example("market-hall-dome.json"), "--amplitudes", "0.001", option, value];
+        var (code, _, stderr) = await Pathtrace.RunAsync(Path.GetTempPath(), args);
+        Assert.Equal(1, code);
+        Assert.Contains(message, stderr);
+    }
 }

@@ -1,3 +1,4 @@
+using Google.Rpc;
 using Grpc.Core;
 using PathService.Contracts.V1;
 using PathService.Server.Tests.Fixtures;
@@ -93,5 +94,64 @@ public class StabilityToolkitTests(ServerFixture server)
         Assert.Single(updates, u => u.UpdateCase == TracePathResponse.UpdateOneofCase.BranchEnded);
         Assert.Equal(5, updates.Count(u => u.UpdateCase == TracePathResponse.UpdateOneofCase.Point && u.Point.Branch == 1));
         Assert.Equal(2, updates[^1].Summary.Branches);
+    }
+}
+
+/// <summary>Bad imperfections and sweep amplitudes are refused with the field at fault.</summary>
+[Collection(ServerCollection.Name)]
+public class ImperfectionInputTests(ServerFixture server)
+{
+    private static TracePathRequest Truss(Imperfection imperfection) => new()
+    {
+        Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(), Imperfection = imperfection,
+        Controls = new SolverControls { MaxPoints = 5 },
+    };
+
+    private async Task<RpcException> TraceFails(TracePathRequest request)
+    {
+        using var call = server.Client.TracePath(request);
+        return await Assert.ThrowsAsync<RpcException>(async () => { await foreach (var _ in call.ResponseStream.ReadAllAsync()) { } });
+    }
+
+    private static string Fields(RpcException ex) =>
+        string.Join(" ", ex.GetRpcStatus()?.GetDetail<BadRequest>()?.FieldViolations.Select(v => v.Field) ?? []);
+
+    [Fact]
+    public async Task A_shape_naming_an_unknown_node_is_an_invalid_argument()
+    {
+        var ex = await TraceFails(Truss(new Imperfection { Shape = { new ShapeVector { Node = "ghost", Y = 1 } }, Amplitude = 0.01 }));
+        Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
+        Assert.Contains("imperfection.shape[0].node", Fields(ex));
+        Assert.Contains("ghost", ex.Status.Detail);
+    }
+
+    [Fact]
+    public async Task A_mode_number_out_of_range_is_an_invalid_argument()
+    {
+        var ex = await TraceFails(Truss(new Imperfection { BucklingModes = { 0 }, Amplitude = 0.01 }));
+        Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
+        Assert.Contains("imperfection.buckling_modes[0]", Fields(ex));
+    }
+
+    [Fact]
+    public async Task A_non_finite_amplitude_is_an_invalid_argument()
+    {
+        var ex = await TraceFails(Truss(new Imperfection { BucklingModes = { 1 }, Amplitude = double.NaN }));
+        Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
+        Assert.Contains("imperfection.amplitude", Fields(ex));
+    }
+
+    [Fact]
+    public async Task A_non_finite_sweep_amplitude_names_its_position()
+    {
+        var client = new ImperfectionStudyService.ImperfectionStudyServiceClient(server.Channel);
+        using var call = client.SweepImperfections(new SweepImperfectionsRequest
+        {
+            Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(),
+            Imperfection = new Imperfection { BucklingModes = { 1 } }, Amplitudes = { 0.001, double.PositiveInfinity },
+        });
+        var ex = await Assert.ThrowsAsync<RpcException>(async () => { await foreach (var _ in call.ResponseStream.ReadAllAsync()) { } });
+        Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
+        Assert.Contains("amplitudes[1]", Fields(ex));
     }
 }

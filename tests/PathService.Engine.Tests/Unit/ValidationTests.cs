@@ -167,3 +167,39 @@ public class ValidationTests
         Assert.Contains(ex.Findings, f => f.FieldPath == "controls.control_dof" && f.Message.Contains("restrained"));
     }
 }
+
+/// <summary>Bad member data and branch-switching controls get their own findings.</summary>
+public class MemberAndBranchValidationTests
+{
+    private static ModelDefinition WithBar(BarDefinition bar) =>
+        TestModels.TwoBarTruss(4, 0.35, 2.4e5, 10) with { Bars = [bar, new("bar-R", "apex", "right", 2e8, 1.2e-3)] };
+
+    [Fact]
+    public void Negative_yield_stress_second_moment_and_effective_length_are_rejected()
+    {
+        var def = WithBar(new("bar-L", "left", "apex", 2e8, 1.2e-3) { YieldStress = -1, SecondMoment = -1, EffectiveLengthFactor = 0 });
+        var paths = ModelValidator.Validate(def).Select(f => f.FieldPath).ToList();
+        Assert.Contains("bars[0].yield_stress", paths);
+        Assert.Contains("bars[0].second_moment", paths);
+        Assert.Contains("bars[0].effective_length_factor", paths);
+    }
+
+    [Fact]
+    public void Unknown_bar_behaviour_is_rejected()
+    {
+        var def = WithBar(new("bar-L", "left", "apex", 2e8, 1.2e-3) { Behaviour = (Elements.BarBehaviour)9 });
+        var f = Assert.Single(ModelValidator.Validate(def), x => x.FieldPath == "bars[0].behaviour");
+        Assert.Equal("bar-L", f.ItemId);
+    }
+
+    [Fact]
+    public void Branch_switching_needs_arc_length_and_sane_numbers()
+    {
+        var model = StructuralModel.Create(TestModels.TwoBarTruss(4, 0.35, 2.4e5, 10));
+        var controls = new SolverControls { Method = ContinuationMethod.LoadControl, SwitchBranches = true, SecondaryBranchPoints = 0, BranchPerturbation = double.NaN };
+        var paths = controls.Validate(model).Select(f => f.FieldPath).ToList();
+        Assert.Contains("controls.switch_branches", paths);
+        Assert.Contains("controls.secondary_branch_points", paths);
+        Assert.Contains("controls.branch_perturbation", paths);
+    }
+}
