@@ -45,7 +45,7 @@ public class StabilityToolkitTests(ServerFixture server)
 
         Assert.Equal(SweepImperfectionsResponse.UpdateOneofCase.Reference, updates[0].UpdateCase);
         Assert.Equal(CriticalPointKind.Bifurcation, updates[0].Reference.Kind);
-        // kL·√(1 − 2kL/EA) / P_ref for k = 40, L = 3, EA = 5e4, P_ref = 10 (engine verification, docs/theory.md §6.2).
+        // kL·√(1 − 2kL/EA) / P_ref for k = 40, L = 3, EA = 5e4, P_ref = 10 (engine verification, docs/theory.md §6.2 (from memory)).
         double perfect = 40 * 3 * Math.Sqrt(1 - 2 * 40 * 3 / 5e4) / 10;
         Assert.Equal(perfect, updates[0].Reference.CriticalLoadFactor, 1e-6 * perfect);
         var results = updates.Skip(1).Select(u => u.Result).ToList();

@@ -16,7 +16,7 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 /// Linearised (classical) buckling: (K_A + μ K_σ) φ = 0, where K_A is the tangent at the undeformed state plus the
 /// geometric stiffness of the linear stresses under the constant load, and K_σ the geometric stiffness of the linear
 /// stresses under the reference load. The lowest positive μ are found by subspace iteration with Rayleigh-Ritz
-/// (K.-J. Bathe, "Finite Element Procedures", 1996, §11.6) on θ = 1/μ of −K_σ φ = θ K_A φ, using the sparse LDLᵀ of K_A.
+/// (K.-J. Bathe, "Finite Element Procedures", 1996, §11.6 (from memory)) on θ = 1/μ of −K_σ φ = θ K_A φ, using the sparse LDLᵀ of K_A.
 /// It ignores the change of geometry before buckling, which is why it can overestimate a snap-through load badly.
 /// </summary>
 public static class LinearBucklingAnalysis

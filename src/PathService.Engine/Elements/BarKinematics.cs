@@ -2,7 +2,7 @@ namespace PathService.Engine.Elements;
 
 /// <summary>
 /// Total Lagrangian pin-ended bar (see e.g. M. A. Crisfield, "Non-linear Finite Element Analysis of Solids and
-/// Structures", Vol. 1, Wiley 1991, ch. 3; K.-J. Bathe, "Finite Element Procedures", 1996, §6.3).
+/// Structures", Vol. 1, Wiley 1991, ch. 3 (from memory); K.-J. Bathe, "Finite Element Procedures", 1996, §6.3 (from memory)).
 ///
 /// With the initial chord X = X_j − X_i, L0 = |X| and the current chord x = X + u_j − u_i:
 ///   Green-Lagrange strain  ε = (x·x − L0²) / (2 L0²)

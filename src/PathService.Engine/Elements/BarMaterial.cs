@@ -18,7 +18,7 @@ public enum BarRegime { Elastic, Yielding, Slack }
 /// One-dimensional material law of a bar in the Total Lagrangian measures (2nd Piola-Kirchhoff stress S against
 /// Green-Lagrange strain ε): linear elastic with optional initial stress S0; elastic-perfectly-plastic with the same
 /// yield stress σy in tension and compression, by the return map of J. C. Simo and T. J. R. Hughes, "Computational
-/// Inelasticity", Springer 1998, §1.2 (its consistent tangent modulus is 0 while yielding); and tension-only or
+/// Inelasticity", Springer 1998, §1.2 (from memory) (its consistent tangent modulus is 0 while yielding); and tension-only or
 /// compression-only behaviour applied on top. Stating plasticity in (S, ε) is adequate for the moderate strains of
 /// metal lattices; it is not a finite-strain plasticity model.
 /// </summary>

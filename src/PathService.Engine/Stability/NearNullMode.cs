@@ -5,7 +5,7 @@ namespace PathService.Engine.Stability;
 /// <summary>
 /// Inverse iteration with a zero shift on a factorised tangent: converges to the eigenpair of K whose eigenvalue is
 /// nearest zero, the critical (near-null) mode near a critical point (e.g. B. N. Parlett, "The Symmetric Eigenvalue
-/// Problem", SIAM 1998, ch. 4). The eigenvalue is the Rayleigh quotient xᵀKx / xᵀx, signed.
+/// Problem", SIAM 1998, ch. 4 (from memory)). The eigenvalue is the Rayleigh quotient xᵀKx / xᵀx, signed.
 /// </summary>
 internal static class NearNullMode
 {

@@ -6,7 +6,7 @@ namespace PathService.Engine.Tests.Verification;
 /// <summary>
 /// Secondary branch of the spring-held post (see <see cref="SpringHeldPostTests"/>). Rigid-bar theory gives
 /// P = kL·cos θ for a bar of length L tilted by θ with a horizontal spring at its top (Z. P. Bažant and L. Cedolin,
-/// "Stability of Structures", 1991, §1.1). For the extensible Total Lagrangian bar, horizontal equilibrium of the top,
+/// "Stability of Structures", 1991, §1.1 (from memory)). For the extensible Total Lagrangian bar, horizontal equilibrium of the top,
 /// −k x − N x/ℓ = 0, gives N = −kℓ on the whole secondary branch, so the current length is the constant
 /// ℓ = L·√(1 − 2kL/EA) found at the bifurcation, and vertical equilibrium gives P(θ) = kℓ·cos θ exactly
 /// (our derivation, docs/theory.md).

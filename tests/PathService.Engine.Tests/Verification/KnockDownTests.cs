@@ -11,7 +11,7 @@ namespace PathService.Engine.Tests.Verification;
 ///     P(θ) = k(ℓ sin θ − x₀)·cos θ / sin θ,   ℓ² = L₀² − 2kL₀³(ℓ sin θ − x₀)/(EA ℓ sin θ),
 /// and the imperfect post snaps at the maximum of P(θ): a limit point below the perfect bifurcation load, falling as
 /// x₀ grows (Koiter's knock-down; J. W. Hutchinson and W. T. Koiter, Appl. Mech. Rev. 23, 1970; rigid-bar form in
-/// Z. P. Bažant and L. Cedolin, "Stability of Structures", 1991, §1.1). Our derivation for the extensible bar.
+/// Z. P. Bažant and L. Cedolin, "Stability of Structures", 1991, §1.1 (from memory)). Our derivation for the extensible bar.
 /// </summary>
 public class KnockDownTests
 {

@@ -13,7 +13,7 @@ public class MemberBehaviourTests
     /// A node held between two pretensioned cables along x (anchors at x = ∓L), pulled along +x by P. With the Total
     /// Lagrangian bar the right cable's stress is S0 + E(−u/L + u²/(2L²)), zero at u_s = L(1 − √(1 − 2S0/E)); the left
     /// cable then carries P = A(S0 + E(u/L + u²/(2L²)))(L + u)/L alone (our derivation; in small-displacement terms
-    /// P_slack = 2·A·S0, e.g. any cable-net text such as H. A. Buchholdt, "An Introduction to Cable Roof Structures", 1999).
+    /// P_slack = 2·A·S0, e.g. any cable-net text such as H. A. Buchholdt, "An Introduction to Cable Roof Structures", 1999, from memory).
     /// </summary>
     [Fact]
     public void Pretensioned_cable_goes_slack_at_the_derived_load()
@@ -55,7 +55,7 @@ public class MemberBehaviourTests
     /// <summary>
     /// A bar of yield stress σy pulled along its axis: it yields when S = σy (Green-Lagrange strain ε_y = σy/E, current
     /// length ℓ = L√(1 + 2ε_y)), at P = Aσy·ℓ/L; afterwards S stays at σy and the force grows only with ℓ.
-    /// (Elastic-perfectly-plastic return map, J. C. Simo and T. J. R. Hughes, "Computational Inelasticity", 1998, §1.2.)
+    /// (Elastic-perfectly-plastic return map, J. C. Simo and T. J. R. Hughes, "Computational Inelasticity", 1998, §1.2 (from memory).)
     /// </summary>
     [Fact]
     public void Bar_yields_at_its_yield_stress_and_stays_on_the_yield_surface()

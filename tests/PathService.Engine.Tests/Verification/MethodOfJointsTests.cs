@@ -5,7 +5,7 @@ namespace PathService.Engine.Tests.Verification;
 
 /// <summary>
 /// A statically determinate plane truss (our own: span 8 m, height 3 m, two panels) whose member forces follow from the
-/// method of joints (e.g. R. C. Hibbeler, "Structural Analysis", ch. 3): A(0,0) pinned, C(8,0) on a roller, B(4,0) carries
+/// method of joints (e.g. R. C. Hibbeler, "Structural Analysis", ch. 3 (from memory)): A(0,0) pinned, C(8,0) on a roller, B(4,0) carries
 /// 60 kN down, D(2,3) carries 10 kN along +x; E(6,3). Reactions: C_y = (60·4 + 10·3)/8 = 33.75, A_y = 26.25, A_x = −10.
 /// Joint A: N_AD = −26.25·√13/3, N_AB = 10 + 2·8.75 = 27.5. Joint C: N_CE = −11.25√13, N_BC = 22.5.
 /// Joint D: N_BD = 8.75√13, N_DE = −10 − 35 = −45. Joint E: N_BE = 11.25√13. (Tension positive; joint B closes.)

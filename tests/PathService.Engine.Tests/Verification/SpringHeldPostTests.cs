@@ -7,7 +7,7 @@ namespace PathService.Engine.Tests.Verification;
 /// <summary>
 /// A vertical bar of length L pinned at its base, its top held by a lateral spring k and loaded axially by P.
 /// Small-displacement theory gives the bifurcation load P_cr = kL (rigid-bar column on a spring; e.g. Z. P. Bažant and
-/// L. Cedolin, "Stability of Structures", 1991, §1.1, and the linearised buckling analysis below).
+/// L. Cedolin, "Stability of Structures", 1991, §1.1 (from memory), and the linearised buckling analysis below).
 /// With the Total Lagrangian bar the post first shortens to ℓ; the lateral stiffness at the top is k + A S/L0 and the
 /// axial equilibrium gives A S = −P L0/ℓ, so the tangent becomes singular at P = kℓ. Axial equilibrium
 /// P = (EA/(2L0³))(L0² − ℓ²)ℓ then gives ℓ² = L0²(1 − 2kL0/EA), so

@@ -5,7 +5,7 @@ namespace PathService.Engine.Tests.Verification;
 
 /// <summary>
 /// The symmetric shallow two-bar truss (von Mises truss), a classic worked example of the nonlinear finite-element
-/// literature (e.g. M. A. Crisfield, "Non-linear Finite Element Analysis of Solids and Structures", Vol. 1, 1991, §3.1;
+/// literature (e.g. M. A. Crisfield, "Non-linear Finite Element Analysis of Solids and Structures", Vol. 1, 1991, §3.1 (from memory);
 /// our own dimensions below).
 ///
 /// Closed form of the Total Lagrangian solution (derived in docs/theory.md): with half-span b, rise h, L0² = b² + h²
