@@ -95,7 +95,7 @@ public static class TraceCommand
         Console.WriteLine($"factor: nnz(L) = {symbolic.FactorNonZeroCount} (AMD), {factor.StoredEntryCount} stored in {factor.SupernodeCount} supernodes, largest front {factor.MaxFrontSize}");
         Console.WriteLine($"ordering (AMD) {Measure.Ms(symbolic.OrderingTime.TotalSeconds)}, symbolic {Measure.Ms(symbolic.SymbolicTime.TotalSeconds)}, supernodal analysis {Measure.Ms(supernodalSetup)}, assembler set-up {Measure.Ms(assemblerSetup)}");
         Console.WriteLine($"numeric factorisation {Measure.Ms(tFactor)}  ({flops:E3} flops, {flops / tFactor / 1e9:F2} GFlop/s, {factor.Threads} threads, {factor.TaskCount} subtree tasks)");
-        Console.WriteLine($"assembly: tangent {Measure.Ms(tTangent)}, internal force {Measure.Ms(tForce)}; solve 1 rhs {Measure.Ms(tSolve)}, 2 rhs {Measure.Ms(tSolve2)}");
+        Console.WriteLine($"assembly: tangent {Measure.Ms(tTangent)}, internal force {Measure.Ms(tForce)}; solve 1 rhs {Measure.Ms(tSolve)}, 2 rhs {Measure.Ms(tSolve2)} ({factor.SolveTaskCount} subtree tasks holding {100 * factor.SolveParallelShare:F0} % of L)");
         double rest2 = tTangent + tForce + 2 * tSolve, rest1 = tTangent + tForce + tSolve2;
         Console.WriteLine($"per iteration besides the factorisation: {Measure.Ms(rest2)} = {100 * rest2 / tFactor:F0} % of it with two solves, {Measure.Ms(rest1)} = {100 * rest1 / tFactor:F0} % with Solve2");
         Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}, first load increment {increment}");

@@ -38,13 +38,13 @@ namespace PathService.Engine.Sparse;
 /// over subtrees and inside large fronts, deterministic for any thread count; same diagnosis as
 /// <see cref="LdlFactorization"/>.
 /// </summary>
-public sealed unsafe class SupernodalLdlFactorization : ISymmetricFactorization
+public sealed unsafe partial class SupernodalLdlFactorization : ISymmetricFactorization
 {
     private const double ParallelPanelFlops = 4e6;
 
     private readonly SupernodalStructure _s;
     private readonly int _n;
-    private readonly double[] _lx, _d, _arena, _work1, _work2, _tmp1, _tmp2;
+    private readonly double[] _lx, _d, _arena;
     private readonly double[][] _packA, _packB;
     private readonly double* _pl, _pd, _parena;
     private readonly WorkerTeam _team;
@@ -76,11 +76,11 @@ public sealed unsafe class SupernodalLdlFactorization : ISymmetricFactorization
             _packA[t] = GC.AllocateUninitializedArray<double>(packLength, pinned: true);
             _packB[t] = GC.AllocateUninitializedArray<double>(packLength, pinned: true);
         }
-        _work1 = GC.AllocateArray<double>(_n, pinned: true);
-        _work2 = GC.AllocateArray<double>(_n, pinned: true);
-        _tmp1 = GC.AllocateArray<double>(_s.MaxRows + 1, pinned: true);
-        _tmp2 = GC.AllocateArray<double>(_s.MaxRows + 1, pinned: true);
         _team = new WorkerTeam(Threads);
+        _solve = new SolveSchedule(_s);
+        _solveWork = new SolveWork(this);
+        _solveArrays = new SolveArrays(_n, _s.MaxRows + 1, _s.MaxFront + 1, _solve.BufferColumn.Length, Threads);
+        _blockWork = new BlockWork(this);
         _taskWork = new TaskWork(this);
         _sliverWork = new SliverWork();
         Status = LdlStatus.ZeroPivot;
@@ -141,7 +141,7 @@ public sealed unsafe class SupernodalLdlFactorization : ISymmetricFactorization
     public int MaxFrontSize => _s.MaxFront;
 
     /// <summary>Bytes held by this factorisation's arrays.</summary>
-    public long MemoryBytes => 8L * (_lx.Length + _d.Length + _arena.Length + 2L * _n + 2L * _packA[0].Length * Threads);
+    public long MemoryBytes => 8L * (_lx.Length + _d.Length + _arena.Length + _solveArrays.Length + 2L * _packA[0].Length * Threads);
 
     public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11)
     {
@@ -313,138 +313,6 @@ public sealed unsafe class SupernodalLdlFactorization : ISymmetricFactorization
                 int q = Interlocked.Increment(ref _next);
                 if (q >= _slivers) return;
                 DenseKernels.UpdateSliver(q, _l, _u, _nf, _nc, _w, _r0, _nf, _packA, _packB);
-            }
-        }
-    }
-
-    public void Solve(Span<double> rhsInPlace)
-    {
-        CheckSolve(rhsInPlace.Length, nameof(rhsInPlace));
-        int[] perm = _s.Perm;
-        for (int k = 0; k < _n; k++) _work1[k] = rhsInPlace[perm[k]];
-        fixed (double* x = _work1, t = _tmp1)
-        {
-            Forward(x, t);
-            for (int k = 0; k < _n; k++) x[k] /= _pd[k];
-            Backward(x, t);
-        }
-        for (int k = 0; k < _n; k++) rhsInPlace[perm[k]] = _work1[k];
-    }
-
-    public void Solve(ReadOnlySpan<double> b, Span<double> x)
-    {
-        if (b.Length != _n) throw new ArgumentException($"Right-hand side must have length {_n}, got {b.Length}.", nameof(b));
-        if (x.Length != _n) throw new ArgumentException($"Solution must have length {_n}, got {x.Length}.", nameof(x));
-        b.CopyTo(x);
-        Solve(x);
-    }
-
-    public void Solve2(Span<double> rhs1InPlace, Span<double> rhs2InPlace)
-    {
-        CheckSolve(rhs1InPlace.Length, nameof(rhs1InPlace));
-        CheckSolve(rhs2InPlace.Length, nameof(rhs2InPlace));
-        int[] perm = _s.Perm;
-        for (int k = 0; k < _n; k++) { _work1[k] = rhs1InPlace[perm[k]]; _work2[k] = rhs2InPlace[perm[k]]; }
-        fixed (double* x = _work1, y = _work2, t = _tmp1, t2 = _tmp2)
-        {
-            Forward2(x, y, t, t2);
-            for (int k = 0; k < _n; k++) { x[k] /= _pd[k]; y[k] /= _pd[k]; }
-            Backward2(x, y, t, t2);
-        }
-        for (int k = 0; k < _n; k++) { rhs1InPlace[perm[k]] = _work1[k]; rhs2InPlace[perm[k]] = _work2[k]; }
-    }
-
-    private void CheckSolve(int length, string name)
-    {
-        if (!_factorized || Status == LdlStatus.ZeroPivot)
-            throw new InvalidOperationException("No usable factorisation: call Factorize first and check that it did not report ZeroPivot.");
-        if (length != _n)
-            throw new ArgumentException($"Right-hand side must have length {_n}, got {length}.", name);
-    }
-
-    /// <summary>L z = w, supernode by supernode: dense unit-lower solve on the pivot block, then the rows below.</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void Forward(double* x, double* t)
-    {
-        var S = _s;
-        int[] rows = S.Rows;
-        for (int s = 0; s < S.SupernodeCount; s++)
-        {
-            int f = S.First[s], nc = S.First[s + 1] - f, rp = S.RowPtr[s], nr = S.RowPtr[s + 1] - rp, nf = nc + nr;
-            double* l = _pl + S.LOffset[s];
-            double* xs = x + f;
-            for (int j = 0; j < nc; j++)
-                DenseKernels.Axpy(xs[j], l + (long)j * nf + j + 1, xs + j + 1, nc - j - 1);
-            if (nr == 0) continue;
-            new Span<double>(t, nr).Clear();
-            for (int j = 0; j < nc; j++) DenseKernels.Axpy(xs[j], l + (long)j * nf + nc, t, nr);
-            for (int r = 0; r < nr; r++) x[rows[rp + r]] += t[r];
-        }
-    }
-
-    /// <summary>L^T v = u, supernodes in reverse: gather the rows below, then dense back substitution.</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void Backward(double* x, double* t)
-    {
-        var S = _s;
-        int[] rows = S.Rows;
-        for (int s = S.SupernodeCount - 1; s >= 0; s--)
-        {
-            int f = S.First[s], nc = S.First[s + 1] - f, rp = S.RowPtr[s], nr = S.RowPtr[s + 1] - rp, nf = nc + nr;
-            double* l = _pl + S.LOffset[s];
-            double* xs = x + f;
-            for (int r = 0; r < nr; r++) t[r] = x[rows[rp + r]];
-            for (int j = nc - 1; j >= 0; j--)
-            {
-                double* col = l + (long)j * nf;
-                xs[j] -= DenseKernels.Dot(col + j + 1, xs + j + 1, nc - j - 1) + DenseKernels.Dot(col + nc, t, nr);
-            }
-        }
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void Forward2(double* x, double* y, double* t, double* t2)
-    {
-        var S = _s;
-        int[] rows = S.Rows;
-        for (int s = 0; s < S.SupernodeCount; s++)
-        {
-            int f = S.First[s], nc = S.First[s + 1] - f, rp = S.RowPtr[s], nr = S.RowPtr[s + 1] - rp, nf = nc + nr;
-            double* l = _pl + S.LOffset[s];
-            double* xs = x + f, ys = y + f;
-            for (int j = 0; j < nc; j++)
-            {
-                DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + j + 1, xs + j + 1, ys + j + 1, nc - j - 1);
-            }
-            if (nr == 0) continue;
-            new Span<double>(t, nr).Clear();
-            new Span<double>(t2, nr).Clear();
-            for (int j = 0; j < nc; j++)
-            {
-                DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + nc, t, t2, nr);
-            }
-            for (int r = 0; r < nr; r++) { int i = rows[rp + r]; x[i] += t[r]; y[i] += t2[r]; }
-        }
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void Backward2(double* x, double* y, double* t, double* t2)
-    {
-        var S = _s;
-        int[] rows = S.Rows;
-        for (int s = S.SupernodeCount - 1; s >= 0; s--)
-        {
-            int f = S.First[s], nc = S.First[s + 1] - f, rp = S.RowPtr[s], nr = S.RowPtr[s + 1] - rp, nf = nc + nr;
-            double* l = _pl + S.LOffset[s];
-            double* xs = x + f, ys = y + f;
-            for (int r = 0; r < nr; r++) { int i = rows[rp + r]; t[r] = x[i]; t2[r] = y[i]; }
-            for (int j = nc - 1; j >= 0; j--)
-            {
-                double* col = l + (long)j * nf;
-                DenseKernels.Dot2(col + j + 1, xs + j + 1, ys + j + 1, nc - j - 1, out double dx, out double dy);
-                DenseKernels.Dot2(col + nc, t, t2, nr, out double ex, out double ey);
-                xs[j] -= dx + ex;
-                ys[j] -= dy + ey;
             }
         }
     }

@@ -194,6 +194,8 @@ public class SupernodalFactorizationTests
         foreach (int threads in new[] { 1, 2, 3 })
         {
             var f = new SupernodalLdlFactorization(symbolic, threads);
+            // The solves of this model must really be shared: subtree tasks with buffered updates of the top.
+            Assert.True(f.SolveTaskCount > 1 && f.SolveParallelShare is > 0.3 and < 1, $"{f.SolveTaskCount} tasks, {f.SolveParallelShare:P0}");
             Assert.NotEqual(LdlStatus.ZeroPivot, f.Factorize(kt));
             var x = (double[])b1.Clone();
             f.Solve(x);
