@@ -60,6 +60,7 @@ public sealed unsafe partial class SupernodalLdlFactorization
     }
 
     /// <summary>Solves in place for r1 and, when r2 is not null, r2 in the same passes over L.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void SolveCore(double* r1, double* r2)
     {
         var A = _solveArrays;
@@ -91,7 +92,7 @@ public sealed unsafe partial class SupernodalLdlFactorization
         {
             int s = P.TopSupers[i];
             if (SharesRows(s)) BackwardShared(s, x, y, t, t2);
-            else BackwardSupernode(s, x, y, t, t2);
+            else BackwardSupernode(s, x, y, t, t2, A.Columns1(0), A.Columns2(0));
         }
 
         if (P.TaskCount > 0)
@@ -105,6 +106,7 @@ public sealed unsafe partial class SupernodalLdlFactorization
     }
 
     /// <summary>Forward solve, pivot scaling (forward pass) or backward solve (backward pass) of subtree task t.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void SolveTask(int task, int participant, double* x, double* y, bool backward)
     {
         var P = _solve;
@@ -112,7 +114,8 @@ public sealed unsafe partial class SupernodalLdlFactorization
         double* t = A.Temp1(participant), t2 = A.Temp2(participant);
         if (backward)
         {
-            for (int s = P.SuperEnd[task] - 1; s >= P.SuperBegin[task]; s--) BackwardSupernode(s, x, y, t, t2);
+            double* e1 = A.Columns1(participant), e2 = A.Columns2(participant);
+            for (int s = P.SuperEnd[task] - 1; s >= P.SuperBegin[task]; s--) BackwardSupernode(s, x, y, t, t2, e1, e2);
             return;
         }
         int b0 = P.BufferPtr[task], bn = P.BufferPtr[task + 1] - b0;
@@ -136,10 +139,10 @@ public sealed unsafe partial class SupernodalLdlFactorization
         double* xs = x + f;
         if (y == null)
         {
-            for (int j = 0; j < nc; j++) DenseKernels.Axpy(xs[j], l + (long)j * nf + j + 1, xs + j + 1, nc - j - 1);
+            SolveKernels.LowerSolve(l, nf, xs, nc);
             if (nr == 0) return;
             new Span<double>(t, nr).Clear();
-            for (int j = 0; j < nc; j++) DenseKernels.Axpy(xs[j], l + (long)j * nf + nc, t, nr);
+            SolveKernels.Gemv(l + nc, nf, xs, nc, t, nr);
             for (int r = 0; r < nr; r++)
             {
                 int i = target[rp + r];
@@ -149,12 +152,11 @@ public sealed unsafe partial class SupernodalLdlFactorization
             return;
         }
         double* ys = y + f;
-        for (int j = 0; j < nc; j++)
-            DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + j + 1, xs + j + 1, ys + j + 1, nc - j - 1);
+        SolveKernels.LowerSolve2(l, nf, xs, ys, nc);
         if (nr == 0) return;
         new Span<double>(t, nr).Clear();
         new Span<double>(t2, nr).Clear();
-        for (int j = 0; j < nc; j++) DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + nc, t, t2, nr);
+        SolveKernels.Gemv2(l + nc, nf, xs, ys, nc, t, t2, nr);
         for (int r = 0; r < nr; r++)
         {
             int i = target[rp + r];
@@ -171,22 +173,21 @@ public sealed unsafe partial class SupernodalLdlFactorization
     /// <see cref="ForwardSupernode"/> with the rows below the pivot block split among the threads: every entry gets the
     /// same operations in the same order as on one thread, so the result does not change.
     /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void ForwardShared(int s, double* x, double* y, double* t, double* t2)
     {
         var S = _s;
         int f = S.First[s], nc = S.First[s + 1] - f, nr = S.RowPtr[s + 1] - S.RowPtr[s], nf = nc + nr;
         double* l = _pl + S.LOffset[s];
         double* xs = x + f, ys = y == null ? null : y + f;
-        for (int j = 0; j < nc; j++)
-        {
-            if (y == null) DenseKernels.Axpy(xs[j], l + (long)j * nf + j + 1, xs + j + 1, nc - j - 1);
-            else DenseKernels.Axpy2(xs[j], ys[j], l + (long)j * nf + j + 1, xs + j + 1, ys + j + 1, nc - j - 1);
-        }
+        if (y == null) SolveKernels.LowerSolve(l, nf, xs, nc);
+        else SolveKernels.LowerSolve2(l, nf, xs, ys, nc);
         _blockWork.Start(s, l, nf, nc, nr, x, y, xs, ys, t, t2, backward: false);
         _team.Run(_blockWork, Threads);
     }
 
     /// <summary><see cref="BackwardSupernode"/> with the products of the rows below shared among the threads, column by column.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void BackwardShared(int s, double* x, double* y, double* t, double* t2)
     {
         var S = _s;
@@ -198,21 +199,10 @@ public sealed unsafe partial class SupernodalLdlFactorization
         if (y != null) for (int r = 0; r < nr; r++) t2[r] = y[rows[rp + r]];
         _blockWork.Start(s, l, nf, nc, nr, x, y, xs, ys, t, t2, backward: true);
         _team.Run(_blockWork, Threads);
-        double* e1 = _solveArrays.Column1, e2 = _solveArrays.Column2;
-        for (int j = nc - 1; j >= 0; j--)
-        {
-            double* col = l + (long)j * nf;
-            if (y == null)
-            {
-                xs[j] -= DenseKernels.Dot(col + j + 1, xs + j + 1, nc - j - 1) + e1[j];
-                continue;
-            }
-            DenseKernels.Dot2(col + j + 1, xs + j + 1, ys + j + 1, nc - j - 1, out double dx, out double dy);
-            xs[j] -= dx + e1[j];
-            ys[j] -= dy + e2[j];
-        }
+        BackSubstitute(l, nf, nc, xs, ys, _solveArrays.Columns1(0), _solveArrays.Columns2(0));
     }
 
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void ScaleByPivots(int s, double* x, double* y)
     {
         for (int k = _s.First[s]; k < _s.First[s + 1]; k++)
@@ -224,7 +214,7 @@ public sealed unsafe partial class SupernodalLdlFactorization
 
     /// <summary>L^T v = u on supernode s: gather the rows below (all final by now), then dense back substitution.</summary>
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void BackwardSupernode(int s, double* x, double* y, double* t, double* t2)
+    private void BackwardSupernode(int s, double* x, double* y, double* t, double* t2, double* e1, double* e2)
     {
         var S = _s;
         int[] rows = S.Rows;
@@ -234,23 +224,21 @@ public sealed unsafe partial class SupernodalLdlFactorization
         if (y == null)
         {
             for (int r = 0; r < nr; r++) t[r] = x[rows[rp + r]];
-            for (int j = nc - 1; j >= 0; j--)
-            {
-                double* col = l + (long)j * nf;
-                xs[j] -= DenseKernels.Dot(col + j + 1, xs + j + 1, nc - j - 1) + DenseKernels.Dot(col + nc, t, nr);
-            }
-            return;
+            SolveKernels.ColumnDots(l + nc, nf, nc, t, nr, e1);
         }
-        double* ys = y + f;
-        for (int r = 0; r < nr; r++) { int i = rows[rp + r]; t[r] = x[i]; t2[r] = y[i]; }
-        for (int j = nc - 1; j >= 0; j--)
+        else
         {
-            double* col = l + (long)j * nf;
-            DenseKernels.Dot2(col + j + 1, xs + j + 1, ys + j + 1, nc - j - 1, out double dx, out double dy);
-            DenseKernels.Dot2(col + nc, t, t2, nr, out double ex, out double ey);
-            xs[j] -= dx + ex;
-            ys[j] -= dy + ey;
+            for (int r = 0; r < nr; r++) { int i = rows[rp + r]; t[r] = x[i]; t2[r] = y[i]; }
+            SolveKernels.ColumnDots2(l + nc, nf, nc, t, t2, nr, e1, e2);
         }
+        BackSubstitute(l, nf, nc, xs, y == null ? null : y + f, e1, e2);
+    }
+
+    /// <summary>Back substitution on the pivot block of a supernode, given the products e = L₂₁ᵀt of the rows below.</summary>
+    private static void BackSubstitute(double* l, int nf, int nc, double* xs, double* ys, double* e1, double* e2)
+    {
+        if (ys == null) SolveKernels.UpperSolve(l, nf, xs, nc, e1);
+        else SolveKernels.UpperSolve2(l, nf, xs, ys, nc, e1, e2);
     }
 
     /// <summary>Team body: each participant takes the next subtree task until none is left.</summary>
@@ -307,18 +295,15 @@ public sealed unsafe partial class SupernodalLdlFactorization
             }
         }
 
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         private void Rows(int r0, int r1)
         {
             int len = r1 - r0;
             double* t = _t + r0, t2 = _t2 + r0;
             new Span<double>(t, len).Clear();
             if (_y != null) new Span<double>(t2, len).Clear();
-            for (int j = 0; j < _nc; j++)
-            {
-                double* col = _l + (long)j * _nf + _nc + r0;
-                if (_y == null) DenseKernels.Axpy(_xs[j], col, t, len);
-                else DenseKernels.Axpy2(_xs[j], _ys[j], col, t, t2, len);
-            }
+            if (_y == null) SolveKernels.Gemv(_l + _nc + r0, _nf, _xs, _nc, t, len);
+            else SolveKernels.Gemv2(_l + _nc + r0, _nf, _xs, _ys, _nc, t, t2, len);
             int[] rows = owner._s.Rows;
             int rp = owner._s.RowPtr[_s] + r0;
             for (int r = 0; r < len; r++)
@@ -329,15 +314,14 @@ public sealed unsafe partial class SupernodalLdlFactorization
             }
         }
 
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         private void Columns(int j0, int j1)
         {
-            double* e1 = owner._solveArrays.Column1, e2 = owner._solveArrays.Column2;
-            for (int j = j0; j < j1; j++)
-            {
-                double* col = _l + (long)j * _nf + _nc;
-                if (_y == null) e1[j] = DenseKernels.Dot(col, _t, _nr);
-                else DenseKernels.Dot2(col, _t, _t2, _nr, out e1[j], out e2[j]);
-            }
+            // Results go to the calling thread's arrays, which BackSubstitute then reads.
+            double* e1 = owner._solveArrays.Columns1(0), e2 = owner._solveArrays.Columns2(0);
+            double* col = _l + (long)j0 * _nf + _nc;
+            if (_y == null) SolveKernels.ColumnDots(col, _nf, j1 - j0, _t, _nr, e1 + j0);
+            else SolveKernels.ColumnDots2(col, _nf, j1 - j0, _t, _t2, _nr, e1 + j0, e2 + j0);
         }
     }
 
@@ -345,13 +329,12 @@ public sealed unsafe partial class SupernodalLdlFactorization
     private sealed class SolveArrays
     {
         private readonly double[] _x, _y, _b1, _b2, _temp, _e;
-        private readonly int _rows;
+        private readonly int _rows, _columns;
 
         public SolveArrays(int n, int rows, int columns, int bufferLength, int threads)
         {
-            _e = GC.AllocateArray<double>(2 * columns, pinned: true);
-            Column1 = Pointer(_e);
-            Column2 = Column1 + columns;
+            _columns = columns;
+            _e = GC.AllocateArray<double>(2 * columns * threads, pinned: true);
             _rows = rows;
             _x = GC.AllocateArray<double>(n, pinned: true);
             _y = GC.AllocateArray<double>(n, pinned: true);
@@ -365,12 +348,12 @@ public sealed unsafe partial class SupernodalLdlFactorization
         public double* Y { get; }
         public double* Buffer1 { get; }
         public double* Buffer2 { get; }
-        public double* Column1 { get; }
-        public double* Column2 { get; }
         public long Length => _x.Length + _y.Length + _b1.Length + _b2.Length + _temp.Length + _e.Length;
 
         public double* Temp1(int participant) => Pointer(_temp) + 2L * _rows * participant;
         public double* Temp2(int participant) => Pointer(_temp) + 2L * _rows * participant + _rows;
+        public double* Columns1(int participant) => Pointer(_e) + 2L * _columns * participant;
+        public double* Columns2(int participant) => Pointer(_e) + 2L * _columns * participant + _columns;
 
         private static double* Pointer(double[] a) => (double*)Unsafe.AsPointer(ref MemoryMarshal.GetArrayDataReference(a));
     }
