@@ -19,5 +19,28 @@ public static class Measure
         return times[repeats / 2];
     }
 
+    /// <summary>
+    /// Runs tangent, residual, factorisation and solve in turn, as an iteration does, and returns the sorted ratios
+    /// (tangent + residual + solve) / factorisation of each repetition (after one warm-up repetition).
+    /// </summary>
+    public static double[] IterationRatios(Action tangent, Action residual, Action factorize, Action solve, int repeats)
+    {
+        var ratios = new double[repeats];
+        for (int r = -1; r < repeats; r++)
+        {
+            long t0 = Stopwatch.GetTimestamp();
+            tangent();
+            residual();
+            long t1 = Stopwatch.GetTimestamp();
+            factorize();
+            long t2 = Stopwatch.GetTimestamp();
+            solve();
+            long t3 = Stopwatch.GetTimestamp();
+            if (r >= 0) ratios[r] = (double)(t1 - t0 + t3 - t2) / (t2 - t1);
+        }
+        Array.Sort(ratios);
+        return ratios;
+    }
+
     public static string Ms(double seconds) => $"{seconds * 1000,9:F2} ms";
 }

@@ -15,7 +15,7 @@ public static class TraceCommand
 {
     public static int Run(Options o)
     {
-        int m = o.Int("m", 60), points = o.Int("points", 30), repeats = o.Int("repeats", 5);
+        int m = o.Int("m", 60), points = o.Int("points", 30), repeats = o.Int("repeats", 15);
         double increment = o.Double("increment", 0.05);
         bool verbose = o.String("verbose", "false") == "true";
         var process = Process.GetCurrentProcess();
@@ -98,6 +98,11 @@ public static class TraceCommand
         Console.WriteLine($"assembly: tangent {Measure.Ms(tTangent)}, internal force {Measure.Ms(tForce)}; solve 1 rhs {Measure.Ms(tSolve)}, 2 rhs {Measure.Ms(tSolve2)} ({factor.SolveTaskCount} subtree tasks holding {100 * factor.SolveParallelShare:F0} % of L)");
         double rest2 = tTangent + tForce + 2 * tSolve, rest1 = tTangent + tForce + tSolve2;
         Console.WriteLine($"per iteration besides the factorisation: {Measure.Ms(rest2)} = {100 * rest2 / tFactor:F0} % of it with two solves, {Measure.Ms(rest1)} = {100 * rest1 / tFactor:F0} % with Solve2");
+        // The same parts interleaved, one iteration after another, so that each ratio compares parts timed under the
+        // same machine conditions (this shared VM's speed drifts by up to 2x within minutes).
+        var ratios = Measure.IterationRatios(() => asm.Tangent(u, values), () => asm.InternalForce(u, force),
+            () => factor.Factorize(values), () => factor.Solve2(b1, b2), Math.Max(repeats, 21));
+        Console.WriteLine($"interleaved iterations ({ratios.Length}): (tangent + internal force + Solve2) / factorisation median {100 * ratios[ratios.Length / 2]:F0} %, range {100 * ratios[0]:F0}–{100 * ratios[^1]:F0} %");
         Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}, first load increment {increment}");
         Console.WriteLine($"trace: {s.Points} points ({converged} converged after the start), {s.Steps} steps, {cuts} cuts, {critical} critical points, stop: {s.Reason}");
         Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
