@@ -265,7 +265,8 @@ internal sealed class BranchWalker(TraceSession s)
         var c = s.Controls;
         var sys = s.Sys;
         var locator = new CriticalPointLocator(sys, s.Corrector, c);
-        var r = locator.Locate(ua, la, na, b.U, b.Lambda, b.Inertia, _modeGuess, s.Ct);
+        // The factorisation in place is the tangent at b (RefreshTangent at the converged point).
+        var r = locator.Locate(ua, la, na, b.U, b.Lambda, b.Inertia, _modeGuess, s.Ct, factorAtB: true);
         _modeGuess = r.ModeFree;
         double alignment = Math.Abs(EquilibriumSystem.Dot(r.ModeFree, sys.ReferenceFree)) /
                            Math.Max(1e-300, Math.Sqrt(EquilibriumSystem.Dot(r.ModeFree, r.ModeFree) * sys.ReferenceNormSquared));

@@ -14,7 +14,15 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
 {
     public sealed record Result(double LoadFactor, double[] Displacement, double Eigenvalue, double[] ModeFree, bool Located, double Tolerance);
 
-    public Result Locate(double[] ua, double lambdaA, int na, double[] ub, double lambdaB, int nb, double[]? modeGuess, CancellationToken ct)
+    /// <summary>Trials first try modified Newton with the tangent in place (the last trial's) for this many iterations.</summary>
+    private const int ModifiedNewtonIterations = 12;
+
+    /// <summary>Relative change of μ that ends inverse iteration at the bracket ends.</summary>
+    private const double EndTolerance = 1e-6;
+
+    /// <param name="factorAtB">True when the system's factorisation is already the tangent at u_b (saves one).</param>
+    public Result Locate(double[] ua, double lambdaA, int na, double[] ub, double lambdaB, int nb, double[]? modeGuess, CancellationToken ct,
+        bool factorAtB = false)
     {
         int n = sys.FreeCount;
         var fullOf = sys.Model.Dofs.FullOf;
@@ -26,8 +34,10 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         // monotone in that projection, whereas λ is not near a limit point. λ alone only when the chord has no displacement.
         double w = dd > 0 ? 0.0 : 1.0;
 
-        var (muA, modeA) = EigenAt(ua, modeGuess);
-        var (muB, modeB) = EigenAt(ub, modeA);
+        // At the bracket ends μ only sets the scale and the first regula falsi trial: a few digits are enough.
+        var (muB, modeB) = factorAtB && sys.Factor.Status != LdlStatus.ZeroPivot
+            ? NearNullMode.Compute(sys, modeGuess, tolerance: EndTolerance, mixStart: true) : EigenAt(ub, modeGuess);
+        var (muA, _) = EigenAt(ua, modeB);
         double tLo = 0, tHi = 1, fLo = muA, fHi = muB;
         double lambdaLo = lambdaA, lambdaHi = lambdaB;
         // Converged when the eigenvalue nearest zero is this small against its values at the bracket ends.
@@ -100,7 +110,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     private (double Mu, double[] Mode) EigenAt(double[] u, double[]? guess)
     {
         if (sys.Refactor(u) == LdlStatus.ZeroPivot) return (0.0, guess ?? new double[sys.FreeCount]);
-        return NearNullMode.Compute(sys, guess);
+        return NearNullMode.Compute(sys, guess, tolerance: EndTolerance, mixStart: true);
     }
 
     private bool TrySolveAt(double t, double[] ua, double lambdaA, double[] d, double dl, double w,
@@ -113,7 +123,19 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         lambda = lambdaA + t * dl;
         double dLam = t * dl;
         var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: d, NormalLoad: dl, LoadWeight: w);
-        var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, Math.Min(controls.ResidualTolerance, 1e-10), ct);
+        double tolerance = Math.Min(controls.ResidualTolerance, 1e-10);
+        // Modified Newton first: the factorisation in place is the tangent at the last trial (or a bracket end), a state
+        // close to this one, so a few solves usually replace several factorisations. Full Newton from the same predictor
+        // when that does not converge (the critical mode's stiffness may change sign between the two states).
+        var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
+        if (outcome == CorrectorOutcome.Converged) return true;
+        if (outcome == CorrectorOutcome.Cancelled) return false;
+        Array.Copy(ua, u, ua.Length);
+        for (int e = 0; e < dU.Length; e++) dU[e] = t * d[e];
+        sys.AddFree(u, dU);
+        lambda = lambdaA + t * dl;
+        dLam = t * dl;
+        outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, tolerance, ct);
         return outcome == CorrectorOutcome.Converged;
     }
 }

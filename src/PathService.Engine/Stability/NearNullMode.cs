@@ -9,16 +9,27 @@ namespace PathService.Engine.Stability;
 /// </summary>
 internal static class NearNullMode
 {
-    public static (double Eigenvalue, double[] Mode) Compute(EquilibriumSystem sys, double[]? start, int maxIterations = 40, double tolerance = 1e-10, double absoluteTolerance = 0)
+    public static (double Eigenvalue, double[] Mode) Compute(EquilibriumSystem sys, double[]? start, int maxIterations = 40, double tolerance = 1e-10, double absoluteTolerance = 0,
+        bool mixStart = false)
     {
         int n = sys.FreeCount;
         var x = new double[n];
-        if (start is not null && start.Length == n && EquilibriumSystem.Dot(start, start) > 0) start.CopyTo(x, 0);
-        else
+        bool guessed = start is not null && start.Length == n && EquilibriumSystem.Dot(start, start) > 0;
+        if (!guessed || mixStart)
         {
-            // Deterministic start with components in every direction.
+            // Deterministic start with components in every direction. Mixed into a guess when asked: a guess from another
+            // state can be orthogonal to the mode wanted here (a symmetric structure's modes fall in symmetry classes),
+            // and inverse iteration never leaves the span it starts in, except by round-off.
             var rng = new Random(12345);
             for (int i = 0; i < n; i++) x[i] = rng.NextDouble() - 0.5;
+            Normalize(x);
+        }
+        if (guessed)
+        {
+            var g = start!;
+            double gn = Math.Sqrt(EquilibriumSystem.Dot(g, g));
+            // Unequal weights: the mix cannot cancel (|g + r/2| >= 1/2 for unit g and r).
+            for (int i = 0; i < n; i++) x[i] = (mixStart ? 0.5 * x[i] : 0) + g[i] / gn;
         }
         Normalize(x);
         var kx = new double[n];
