@@ -37,4 +37,14 @@ public class Kernels
     [Benchmark] public void AssembleTangent() => _asm.Tangent(_u, _values);
     [Benchmark] public void InternalForce() => _asm.InternalForce(_u, _force);
     [Benchmark] public void Solve2() => _factor.Solve2(_b1, _b2);
+
+    /// <summary>One full Newton iteration of an arc-length step: tangent, factorisation, both solves, residual.</summary>
+    [Benchmark]
+    public void Iteration()
+    {
+        _asm.Tangent(_u, _values);
+        _factor.Factorize(_values);
+        _factor.Solve2(_b1, _b2);
+        _asm.InternalForce(_u, _force);
+    }
 }
