@@ -37,13 +37,16 @@ public static class TraceCommand
         PathSummary? summary = null;
         int critical = 0, cuts = 0;
         double firstPoint = 0;
+        long allocatedAtFirst = 0, allocatedAtSecond = 0;
         var traceClock = Stopwatch.StartNew();
         foreach (var e in new PathTracer(model, controls).Trace())
         {
             switch (e)
             {
                 case PathPoint p:
-                    if (p.Index == 0) firstPoint = traceClock.Elapsed.TotalSeconds;
+                    if (p.Index == 0) { firstPoint = traceClock.Elapsed.TotalSeconds; allocatedAtFirst = GC.GetTotalAllocatedBytes(true); }
+                    if (p.Index == 1) allocatedAtSecond = GC.GetTotalAllocatedBytes(true);
+                    if (verbose) Console.WriteLine($"    allocated so far {(GC.GetTotalAllocatedBytes(true) - allocatedBefore) / 1e3:F1} kB");
                     if (verbose) Console.WriteLine($"  point {p.Index,3}  λ = {p.LoadFactor,10:G6}  w = {p.Monitored[0],10:G5}  its {p.Iterations}  neg {p.NegativePivots}");
                     break;
                 case CriticalPoint c:
@@ -108,7 +111,8 @@ public static class TraceCommand
         Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
         Console.WriteLine($"  factorisation time {s.FactorizationTime.TotalSeconds:F2} s ({s.FactorizationTime.TotalSeconds / Math.Max(1, s.Factorizations) * 1000:F1} ms each), rest {traceWall - s.FactorizationTime.TotalSeconds:F2} s");
         Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s");
-        Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB ({allocated / Math.Max(1, iterations) / 1e3:F1} kB per iteration, points and events included)");
+        Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB: set-up and first point {(allocatedAtFirst - allocatedBefore) / 1e6:F1} MB, " +
+            $"second point {(allocatedAtSecond - allocatedAtFirst) / 1e6:F2} MB (first-use buffers), then {(allocatedBefore + allocated - allocatedAtSecond) / 1e3 / Math.Max(1, iterations - 2):F1} kB per iteration (points and events included)");
         var gc = GC.GetGCMemoryInfo();
         Console.WriteLine($"memory: peak working set {peakAfterTrace / 1e6:F0} MB after the trace; factor arrays {factor.MemoryBytes / 1e6:F0} MB; GC heap {gc.HeapSizeBytes / 1e6:F0} MB, collections gen0/1/2 {GC.CollectionCount(0)}/{GC.CollectionCount(1)}/{GC.CollectionCount(2)}");
         return s.Completed ? 0 : 1;
