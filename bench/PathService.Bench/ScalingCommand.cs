@@ -25,10 +25,10 @@ public static class ScalingCommand
             var u = new double[3 * model.NodeCount];
             double tAsm = Measure.MedianSeconds(() => asm.Tangent(u, values), repeats);
             long nnzFull = 2L * asm.Pattern.NonZeroCount - asm.Pattern.Size;
-            foreach (var ordering in new[] { OrderingMethod.ApproximateMinimumDegree, OrderingMethod.Natural })
+            foreach (var ordering in new[] { OrderingMethod.ApproximateMinimumDegree, OrderingMethod.NestedDissection, OrderingMethod.Natural })
             {
                 var clock = Stopwatch.StartNew();
-                var symbolic = LdlSymbolic.Analyze(asm.Pattern, ordering);
+                var symbolic = OrderingChoice.Analyze(model, asm.Pattern, ordering);
                 double tSym = clock.Elapsed.TotalSeconds;
                 double flops = symbolic.FactorFlopCount;
                 if (ordering == OrderingMethod.Natural && flops > 2e10)
@@ -46,7 +46,7 @@ public static class ScalingCommand
                     refCol = $"{tRef * 1e3:F1}";
                     refRate = $"{flops / tRef / 1e9:F2}";
                 }
-                string name = ordering == OrderingMethod.Natural ? "natural" : "AMD";
+                string name = ordering switch { OrderingMethod.Natural => "natural", OrderingMethod.NestedDissection => "ND", _ => "AMD" };
                 Console.WriteLine($"| {m,3} | {asm.Pattern.Size,6} | {nnzFull,6} | {name,-8} | {tSym * 1e3,15:F0} | {symbolic.FactorNonZeroCount,6} | {flops,5:E2} | {tFac * 1e3,15:F1} | {flops / tFac / 1e9,7:F2} | {refCol,21} | {refRate,7} | {tAsm * 1e3,13:F1} |");
             }
         }

@@ -22,7 +22,7 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 public static class LinearBucklingAnalysis
 {
     public static LinearBucklingResult Run(StructuralModel model, int modeCount = 3, int maxIterations = 200, double tolerance = 1e-10,
-        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
+        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic)
     {
         if (modeCount < 1) throw new ArgumentOutOfRangeException(nameof(modeCount), "at least one mode must be requested");
         var sys = new EquilibriumSystem(model, tinyPivotRatio, ordering);

@@ -17,7 +17,7 @@ public sealed record LinearStaticResult(double LoadFactor, double[] Displacement
 public static class LinearStaticAnalysis
 {
     public static LinearStaticResult Run(StructuralModel model, double loadFactor = 1.0, bool includeConstant = true,
-        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
+        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic)
     {
         var sys = new Continuation.EquilibriumSystem(model, tinyPivotRatio, ordering);
         var u0 = new double[3 * model.NodeCount];

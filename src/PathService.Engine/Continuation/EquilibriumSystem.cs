@@ -27,12 +27,12 @@ internal sealed class EquilibriumSystem
     private readonly double[] _force;
     private readonly int[] _fullOf;
 
-    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
+    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic)
     {
         Model = model;
         TinyPivotRatio = tinyPivotRatio;
         Assembler = new StructureAssembler(model);
-        Factor = new SupernodalLdlFactorization(LdlSymbolic.Analyze(Assembler.Pattern, ordering));
+        Factor = new SupernodalLdlFactorization(OrderingChoice.Analyze(model, Assembler.Pattern, ordering));
         Values = new double[Assembler.Pattern.NonZeroCount];
         FreeCount = model.Dofs.FreeCount;
         _fullOf = model.Dofs.FullOf;

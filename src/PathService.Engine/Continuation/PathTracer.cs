@@ -21,7 +21,7 @@ public sealed class PathTracer
     private readonly OrderingMethod _ordering;
 
 
-    public PathTracer(StructuralModel model, SolverControls controls, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
+    public PathTracer(StructuralModel model, SolverControls controls, OrderingMethod ordering = OrderingMethod.Automatic)
     {
         _model = model;
         _c = controls;

@@ -21,19 +21,15 @@ namespace PathService.Engine.Sparse;
 /// <summary>Symbolic phase, computed once per pattern: fill-reducing ordering, elimination tree, column counts of L.</summary>
 public sealed class LdlSymbolic
 {
-    private LdlSymbolic(SymmetricPattern pattern, OrderingMethod ordering)
+    private LdlSymbolic(SymmetricPattern pattern, OrderingMethod ordering, int[] permutation, TimeSpan orderingTime)
     {
         Pattern = pattern;
         Ordering = ordering;
         int n = pattern.Size;
+        Permutation = permutation;
+        OrderingTime = orderingTime;
 
         var clock = Stopwatch.StartNew();
-        Permutation = ordering == OrderingMethod.ApproximateMinimumDegree
-            ? ApproximateMinimumDegree.Order(pattern)
-            : Enumerable.Range(0, n).ToArray();
-        OrderingTime = clock.Elapsed;
-
-        clock.Restart();
         // Inverse permutation: InversePermutation[Permutation[k]] = k.
         InversePermutation = new int[n];
         for (int k = 0; k < n; k++) InversePermutation[Permutation[k]] = k;
@@ -60,8 +56,29 @@ public sealed class LdlSymbolic
     {
         ArgumentNullException.ThrowIfNull(pattern);
         if (ordering != OrderingMethod.Natural && ordering != OrderingMethod.ApproximateMinimumDegree)
-            throw new ArgumentException($"Unknown ordering method {ordering}.", nameof(ordering));
-        return new LdlSymbolic(pattern, ordering);
+            throw new ArgumentException($"Ordering {ordering} needs more than the pattern: use {nameof(FromPermutation)}.", nameof(ordering));
+        var clock = Stopwatch.StartNew();
+        var perm = ordering == OrderingMethod.ApproximateMinimumDegree
+            ? ApproximateMinimumDegree.Order(pattern)
+            : Enumerable.Range(0, pattern.Size).ToArray();
+        return new LdlSymbolic(pattern, ordering, perm, clock.Elapsed);
+    }
+
+    /// <summary>Symbolic analysis with a permutation computed elsewhere (Permutation[k] = unknown eliminated k-th).</summary>
+    public static LdlSymbolic FromPermutation(SymmetricPattern pattern, int[] permutation, OrderingMethod ordering, TimeSpan orderingTime)
+    {
+        ArgumentNullException.ThrowIfNull(pattern);
+        ArgumentNullException.ThrowIfNull(permutation);
+        if (permutation.Length != pattern.Size)
+            throw new ArgumentException($"The permutation must have {pattern.Size} entries, got {permutation.Length}.", nameof(permutation));
+        var seen = new bool[pattern.Size];
+        foreach (int i in permutation)
+        {
+            if ((uint)i >= (uint)pattern.Size || seen[i])
+                throw new ArgumentException($"Not a permutation of 0..{pattern.Size - 1}: {i} is out of range or repeated.", nameof(permutation));
+            seen[i] = true;
+        }
+        return new LdlSymbolic(pattern, ordering, (int[])permutation.Clone(), orderingTime);
     }
 
     public SymmetricPattern Pattern { get; }

@@ -10,4 +10,13 @@ public enum OrderingMethod
 
     /// <summary>Approximate minimum degree (Amestoy, Davis and Duff, 1996).</summary>
     ApproximateMinimumDegree,
+
+    /// <summary>Nested dissection with separators from node coordinates (<see cref="GeometricNestedDissection"/>).</summary>
+    NestedDissection,
+
+    /// <summary>
+    /// Whichever of minimum degree and nested dissection gives the cheaper factorisation (fewer flops), for models
+    /// large enough for the difference to matter; minimum degree otherwise.
+    /// </summary>
+    Automatic,
 }
