@@ -61,7 +61,8 @@ internal static unsafe class DenseKernels
         UseFma ? Fma.MultiplyAddNegated(a, b, c) : Avx.Subtract(c, Avx.Multiply(a, b));
 
     /// <summary>y[0..len) -= t * x[0..len).</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    // Inlined: the solves call these on short columns, where a call costs as much as the work.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static void Axpy(double t, double* x, double* y, int len)
     {
         int i = 0;
@@ -78,7 +79,8 @@ internal static unsafe class DenseKernels
     /// y1 -= t1·x and y2 -= t2·x in one pass over x (the two right-hand sides of a solve share the factor's column);
     /// every element gets exactly the operations of two <see cref="Axpy"/> calls, so results are bit-identical.
     /// </summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    // Inlined: the solves call these on short columns, where a call costs as much as the work.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static void Axpy2(double t1, double t2, double* x, double* y1, double* y2, int len)
     {
         int i = 0;
@@ -97,7 +99,8 @@ internal static unsafe class DenseKernels
     }
 
     /// <summary>x·y1 and x·y2 in one pass over x, each accumulated exactly as <see cref="Dot"/> does.</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    // Inlined: the solves call these on short columns, where a call costs as much as the work.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static void Dot2(double* x, double* y1, double* y2, int len, out double d1, out double d2)
     {
         int i = 0;
@@ -129,7 +132,8 @@ internal static unsafe class DenseKernels
     }
 
     /// <summary>sum_i x[i] y[i], accumulated in 4 lanes (vector width) then added lane 0..3; the same on every path.</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    // Inlined: the solves call these on short columns, where a call costs as much as the work.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static double Dot(double* x, double* y, int len)
     {
         int i = 0;

@@ -2,7 +2,7 @@
 // unknowns sit at points in space (the DOFs of a structure's nodes).
 //
 // Method: nested dissection (George, "Nested dissection of a regular finite
-// element mesh", SIAM J. Numer. Anal. 10(2), 1973) with separators found from
+// element mesh", SIAM J. Numer. Anal. 10(2), 1973; from memory) with separators found from
 // the coordinates, as in recursive coordinate bisection: the nodes of a part
 // are split at the median along the axis of largest extent, the nodes of one
 // half that touch the other half (whichever set is smaller) form the

@@ -68,7 +68,7 @@ internal static unsafe class SolveKernels
                 }
             }
         }
-        for (; j < cols; j++) Axpy(x[j], a + j * ld, y, len);
+        for (; j < cols; j++) DenseKernels.Axpy(x[j], a + j * ld, y, len);
     }
 
     /// <summary><see cref="Gemv"/> for two vectors sharing the matrix: y1 -= A x1 and y2 -= A x2 in one pass over A.</summary>
@@ -110,7 +110,7 @@ internal static unsafe class SolveKernels
                 }
             }
         }
-        for (; j < cols; j++) Axpy2(x1[j], x2[j], a + j * ld, y1, y2, len);
+        for (; j < cols; j++) DenseKernels.Axpy2(x1[j], x2[j], a + j * ld, y1, y2, len);
     }
 
     /// <summary>
@@ -175,7 +175,7 @@ internal static unsafe class SolveKernels
                 e[j + 3] = Finish(s3, a3, t, i, len);
             }
         }
-        for (; j < cols; j++) e[j] = Dot(a + j * ld, t, len);
+        for (; j < cols; j++) e[j] = DenseKernels.Dot(a + j * ld, t, len);
     }
 
     /// <summary><see cref="ColumnDots"/> for two vectors in one pass over the columns.</summary>
@@ -210,7 +210,7 @@ internal static unsafe class SolveKernels
                 e1[j + 3] = Finish(s3, a3, t1, i, len); e2[j + 3] = Finish(r3, a3, t2, i, len);
             }
         }
-        for (; j < cols; j++) Dot2(a + j * ld, t1, t2, len, out e1[j], out e2[j]);
+        for (; j < cols; j++) DenseKernels.Dot2(a + j * ld, t1, t2, len, out e1[j], out e2[j]);
     }
 
     /// <summary>
@@ -220,7 +220,7 @@ internal static unsafe class SolveKernels
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static void UpperSolve(double* a, long ld, double* x, int n, double* e)
     {
-        for (int j = n - 1; j >= 0; j--) x[j] -= Dot(a + j * ld + j + 1, x + j + 1, n - j - 1) + e[j];
+        for (int j = n - 1; j >= 0; j--) x[j] -= DenseKernels.Dot(a + j * ld + j + 1, x + j + 1, n - j - 1) + e[j];
     }
 
     /// <summary><see cref="UpperSolve"/> for two vectors in one pass over the block.</summary>
@@ -229,74 +229,10 @@ internal static unsafe class SolveKernels
     {
         for (int j = n - 1; j >= 0; j--)
         {
-            Dot2(a + j * ld + j + 1, x + j + 1, y + j + 1, n - j - 1, out double dx, out double dy);
+            DenseKernels.Dot2(a + j * ld + j + 1, x + j + 1, y + j + 1, n - j - 1, out double dx, out double dy);
             x[j] -= dx + e1[j];
             y[j] -= dy + e2[j];
         }
-    }
-
-    // Inlined copies of DenseKernels.Axpy, Axpy2, Dot and Dot2 (same operations): the solves call them on short
-    // columns, where the cost of a call is comparable to the work.
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static void Axpy(double t, double* x, double* y, int len)
-    {
-        int i = 0;
-        if (UseVectors)
-        {
-            var vt = Vector256.Create(t);
-            for (; i + 4 <= len; i += 4) Avx.Store(y + i, VNmadd(vt, Avx.LoadVector256(x + i), Avx.LoadVector256(y + i)));
-        }
-        for (; i < len; i++) y[i] = DenseKernels.Nmadd(t, x[i], y[i]);
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static void Axpy2(double t1, double t2, double* x, double* y1, double* y2, int len)
-    {
-        int i = 0;
-        if (UseVectors)
-        {
-            var v1 = Vector256.Create(t1);
-            var v2 = Vector256.Create(t2);
-            for (; i + 4 <= len; i += 4)
-            {
-                var xv = Avx.LoadVector256(x + i);
-                Avx.Store(y1 + i, VNmadd(v1, xv, Avx.LoadVector256(y1 + i)));
-                Avx.Store(y2 + i, VNmadd(v2, xv, Avx.LoadVector256(y2 + i)));
-            }
-        }
-        for (; i < len; i++) { y1[i] = DenseKernels.Nmadd(t1, x[i], y1[i]); y2[i] = DenseKernels.Nmadd(t2, x[i], y2[i]); }
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static double Dot(double* x, double* y, int len)
-    {
-        if (!UseVectors) return DenseKernels.Dot(x, y, len);
-        var acc = Vector256<double>.Zero;
-        int i = 0;
-        for (; i + 4 <= len; i += 4) acc = VMadd(Avx.LoadVector256(x + i), Avx.LoadVector256(y + i), acc);
-        return Finish(acc, x, y, i, len);
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static void Dot2(double* x, double* y1, double* y2, int len, out double d1, out double d2)
-    {
-        if (!UseVectors)
-        {
-            DenseKernels.Dot2(x, y1, y2, len, out d1, out d2);
-            return;
-        }
-        var acc1 = Vector256<double>.Zero;
-        var acc2 = Vector256<double>.Zero;
-        int i = 0;
-        for (; i + 4 <= len; i += 4)
-        {
-            var xv = Avx.LoadVector256(x + i);
-            acc1 = VMadd(xv, Avx.LoadVector256(y1 + i), acc1);
-            acc2 = VMadd(xv, Avx.LoadVector256(y2 + i), acc2);
-        }
-        d1 = Finish(acc1, x, y1, i, len);
-        d2 = Finish(acc2, x, y2, i, len);
     }
 
     /// <summary>The end of <see cref="DenseKernels.Dot"/>: lanes out, scalar tail into lane 0, pairwise sum.</summary>

@@ -116,26 +116,27 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     private bool TrySolveAt(double t, double[] ua, double lambdaA, double[] d, double dl, double w,
         double[] u, double[] dU, out double lambda, CancellationToken ct)
     {
-        Array.Copy(ua, u, ua.Length);
-        // Secant predictor: the point at fraction t of the chord from a to b.
-        for (int e = 0; e < dU.Length; e++) dU[e] = t * d[e];
-        sys.AddFree(u, dU);
-        lambda = lambdaA + t * dl;
-        double dLam = t * dl;
         var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: d, NormalLoad: dl, LoadWeight: w);
         double tolerance = Math.Min(controls.ResidualTolerance, 1e-10);
         // Modified Newton first: the factorisation in place is the tangent at the last trial (or a bracket end), a state
         // close to this one, so a few solves usually replace several factorisations. Full Newton from the same predictor
         // when that does not converge (the critical mode's stiffness may change sign between the two states).
+        Predict(t, ua, lambdaA, d, dl, u, dU, out lambda, out double dLam);
         var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
         if (outcome == CorrectorOutcome.Converged) return true;
         if (outcome == CorrectorOutcome.Cancelled) return false;
+        Predict(t, ua, lambdaA, d, dl, u, dU, out lambda, out dLam);
+        outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, tolerance, ct);
+        return outcome == CorrectorOutcome.Converged;
+    }
+
+    /// <summary>Secant predictor: the point at fraction t of the chord from a to b.</summary>
+    private void Predict(double t, double[] ua, double lambdaA, double[] d, double dl, double[] u, double[] dU, out double lambda, out double dLam)
+    {
         Array.Copy(ua, u, ua.Length);
         for (int e = 0; e < dU.Length; e++) dU[e] = t * d[e];
         sys.AddFree(u, dU);
         lambda = lambdaA + t * dl;
         dLam = t * dl;
-        outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, tolerance, ct);
-        return outcome == CorrectorOutcome.Converged;
     }
 }

@@ -97,4 +97,17 @@ public class NestedDissectionTests
         Assert.Throws<ArgumentException>(() => LdlSymbolic.FromPermutation(asm.Pattern, new int[n - 1], OrderingMethod.NestedDissection, TimeSpan.Zero));
         Assert.Throws<ArgumentException>(() => LdlSymbolic.Analyze(asm.Pattern, OrderingMethod.NestedDissection));
     }
+
+    [Fact]
+    public void Inconsistent_node_data_is_refused_with_the_field_named()
+    {
+        var pattern = SymmetricPattern.FromEntries(3, [(0, 0), (0, 1), (1, 1), (2, 2)]);
+        var xyz = new double[] { 0, 0, 0, 1, 0, 0 };
+        var shortMap = Assert.Throws<ArgumentException>(() => GeometricNestedDissection.Order(pattern, [0, 1], xyz));
+        Assert.Equal("nodeOf", shortMap.ParamName);
+        Assert.Contains("3 entries", shortMap.Message);
+        var outside = Assert.Throws<ArgumentException>(() => GeometricNestedDissection.Order(pattern, [0, 1, 2], xyz));
+        Assert.Contains("node index 2 outside the 2 nodes", outside.Message);
+        Assert.Equal(new[] { 0, 1, 2 }, GeometricNestedDissection.Order(pattern, [0, 0, 1], xyz).Order());
+    }
 }
