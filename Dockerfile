@@ -14,6 +14,7 @@ WORKDIR /src
 ENV DOTNET_CLI_TELEMETRY_OPTOUT=1 DOTNET_NOLOGO=1
 COPY Directory.Build.props Directory.Packages.props ./
 COPY src/PathService.Engine/PathService.Engine.csproj src/PathService.Engine/
+COPY src/PathService.Client/PathService.Client.csproj src/PathService.Client/
 COPY src/PathService.Contracts/PathService.Contracts.csproj src/PathService.Contracts/
 COPY src/PathService.Server/PathService.Server.csproj src/PathService.Server/
 COPY deploy/probe/PathService.Probe.csproj deploy/probe/
@@ -21,6 +22,7 @@ RUN dotnet restore src/PathService.Server/PathService.Server.csproj \
  && dotnet restore deploy/probe/PathService.Probe.csproj
 COPY protos/ protos/
 COPY src/PathService.Engine/ src/PathService.Engine/
+COPY src/PathService.Client/ src/PathService.Client/
 COPY src/PathService.Contracts/ src/PathService.Contracts/
 COPY src/PathService.Server/ src/PathService.Server/
 COPY deploy/probe/ deploy/probe/

@@ -10,6 +10,8 @@ dotnet build PathService.sln -c Release --no-restore -nologo
 fuzz_report=tests/PathService.Server.Tests/bin/Release/net10.0/fuzz-report.txt
 rm -f "$fuzz_report"
 dotnet test PathService.sln -c Release --no-build -nologo
+# The client library must pack (plug-ins take it as a NuGet package).
+dotnet pack src/PathService.Client -c Release --no-build -nologo -o out/packages
 # The fuzz suite's case counts (tens of thousands of mutated requests per run).
 [ -f "$fuzz_report" ] && cat "$fuzz_report"
 bash tests/interop/lint.sh
