@@ -51,4 +51,38 @@ public class PictureTests
         }
         finally { Directory.Delete(dir, recursive: true); }
     }
+
+    private static List<string> ViewLabels(string svg) =>
+        XDocument.Parse(svg).Descendants().Where(e => (string?)e.Attribute("class") == "view-label").Select(e => e.Value).ToList();
+
+    [Fact]
+    public async Task Shape_views_take_the_up_axis_from_the_loads_for_a_y_up_model_and_a_z_up_model()
+    {
+        await using var backend = new InProcessBackend();
+        // The roof truss stands in the x-y plane and is loaded along −y: y is up, the truss is seen face on in elevation.
+        var truss = RequestReader.Read(Repo.Example("roof-truss-spring-bearings.json"));
+        truss.Controls.FullStateAtEnd = true;
+        var trussShape = Pictures.Shape(truss, await Traces.RecordAsync(backend, truss), null, null)!;
+        Assert.Equal(["plan (x–z, y up)", "elevation (x–y)"], ViewLabels(trussShape));
+        // The dome is loaded along −z: z is up.
+        var dome = RequestReader.Read(Repo.Example("market-hall-dome.json"));
+        dome.Controls.FullStateAtEnd = true;
+        var labels = ViewLabels(Pictures.Shape(dome, await Traces.RecordAsync(backend, dome), null, null)!);
+        Assert.Equal(2, labels.Count);
+        Assert.EndsWith(", z up)", labels[0]);
+        Assert.StartsWith("elevation (", labels[1]);
+        Assert.EndsWith("–z)", labels[1]);
+    }
+
+    [Theory]
+    [InlineData(0, 0, -5, null, 2)]
+    [InlineData(0, -10, 0, null, 1)]
+    [InlineData(3, 0, 0, null, 0)]
+    [InlineData(0, 0, 0, null, 2)]
+    [InlineData(0, 0, -5, 1, 1)] // gravity along −y wins over the loads when self-weight is used
+    public void Up_axis_comes_from_gravity_else_from_the_load_resultant(double fx, double fy, double fz, int? gravityAxis, int expected)
+    {
+        double[]? gravity = gravityAxis is { } g ? [g == 0 ? -9.81 : 0, g == 1 ? -9.81 : 0, g == 2 ? -9.81 : 0] : null;
+        Assert.Equal(expected, Plots.DeformedShapePlot.UpAxisOf(gravity, [fx, fy, fz]));
+    }
 }

@@ -50,7 +50,23 @@ internal static class Pictures
         var bars = model.Bars.Select(b => (index[b.StartNode], index[b.EndNode])).ToArray();
         var forces = model.Bars.Select(b => force.GetValueOrDefault(b.Id)).ToArray();
         return DeformedShapePlot.Render(new ShapeInput($"{Name(request)}: deformed shape at point {point.Index}, λ = {point.LoadFactor:G5}",
-            Unit(model.Units?.Length, "m"), coords, bars, disp, forces, scale, Cautions.Short));
+            Unit(model.Units?.Length, "m"), coords, bars, disp, forces, scale, Cautions.Short, UpAxis(request)));
+    }
+
+    /// <summary>Up axis from gravity when self-weight is used, else from the resultant of the loads (see DeformedShapePlot.UpAxisOf).</summary>
+    private static int UpAxis(TracePathRequest request)
+    {
+        var loads = request.LoadCase;
+        if (loads is null) return 2;
+        bool selfWeight = loads.Patterns.Any(p => p.SelfWeight);
+        double[]? gravity = selfWeight && loads.Gravity is { } g ? [g.X, g.Y, g.Z] : null;
+        if (selfWeight && loads.Gravity is null) gravity = [0, 0, -9.81]; // the documented default gravity
+        var resultant = new double[3];
+        foreach (var l in loads.Reference.Concat(loads.Constant).Concat(loads.Patterns.SelectMany(p => p.Loads)))
+        {
+            resultant[0] += l.Fx; resultant[1] += l.Fy; resultant[2] += l.Fz;
+        }
+        return DeformedShapePlot.UpAxisOf(gravity, resultant);
     }
 
     private static string Name(TracePathRequest r) => string.IsNullOrWhiteSpace(r.Model?.Name) ? "model" : r.Model.Name;

@@ -1,15 +1,35 @@
 namespace PathService.Cli.Plots;
 
 /// <summary>Geometry and one state of the structure for the deformed-shape picture. Vectors hold 3 entries per node.</summary>
+/// <param name="UpAxis">The global axis (0 = x, 1 = y, 2 = z) that points up in the model: the plan looks down it and
+/// the elevation shows it vertical. See <see cref="UpAxisOf"/>.</param>
 internal sealed record ShapeInput(string Title, string LengthUnit, double[] Coordinates, (int Start, int End)[] Bars,
-    double[] Displacements, double[] BarForces, double? Scale, string Caution);
+    double[] Displacements, double[] BarForces, double? Scale, string Caution, int UpAxis = 2);
 
 /// <summary>
 /// Renders the undeformed (thin grey) and deformed (scaled; tension and compression in two colours) structure in plan
-/// (x-y) and elevation (x-z), side by side, with the displacement scale stated.
+/// (looking down the model's up axis) and elevation (the up axis vertical), side by side, with the displacement scale
+/// stated and each view labelled by its axes.
 /// </summary>
 internal static class DeformedShapePlot
 {
+    private static readonly string[] AxisNames = ["x", "y", "z"];
+
+    /// <summary>
+    /// The up axis of a model: the axis opposite to gravity when self-weight is part of the loads, otherwise the axis
+    /// of the largest component of the resultant of the reference and constant loads (structures are loaded mostly
+    /// downwards: common practice, no source), and z when the loads say nothing.
+    /// </summary>
+    public static int UpAxisOf(double[]? gravity, double[] loadResultant)
+    {
+        var v = gravity is { } g && g.Any(c => c != 0) ? g : loadResultant;
+        int axis = 2;
+        double best = 0;
+        for (int a = 0; a < 3; a++)
+            if (Math.Abs(v[a]) > best * (1 + 1e-9)) { best = Math.Abs(v[a]); axis = a; }
+        return axis;
+    }
+
     private const double PanelW = 420, PanelH = 380, Margin = 40, Header = 60, Footer = 50;
     private const string Tension = "#1f5fa8", Compression = "#b3261e", Undeformed = "#b5b5b5";
 
@@ -33,10 +53,21 @@ internal static class DeformedShapePlot
         var svg = new SvgWriter(width, height, input.Title);
         svg.Text(Margin, 28, input.Title, 16, cls: "title");
         svg.Text(Margin, 46, $"displacements × {scale:G3} (largest {maxDisp:G3} {input.LengthUnit}); tension blue, compression red", 11, cls: "scale-note");
-        Panel(svg, input, deformed, 0, 1, Margin, "plan (x–y)");
-        Panel(svg, input, deformed, 0, 2, 2 * Margin + PanelW, "elevation (x–z)");
+        // Plan: the two other axes, the one along which the model is longer drawn horizontally; elevation: that axis
+        // horizontal and the up axis vertical (so a plane truss standing in its plane is seen face on).
+        int up = Math.Clamp(input.UpAxis, 0, 2), first = (up + 1) % 3, second = (up + 2) % 3;
+        if (Extent(input.Coordinates, second) > Extent(input.Coordinates, first) * (1 + 1e-9)) (first, second) = (second, first);
+        Panel(svg, input, deformed, first, second, Margin, $"plan ({AxisNames[first]}–{AxisNames[second]}, {AxisNames[up]} up)");
+        Panel(svg, input, deformed, first, up, 2 * Margin + PanelW, $"elevation ({AxisNames[first]}–{AxisNames[up]})");
         svg.Text(Margin, height - 14, input.Caution, 8.5, cls: "caution", fill: "#666666");
         return svg.ToString();
+    }
+
+    private static double Extent(double[] coordinates, int axis)
+    {
+        double min = double.MaxValue, max = double.MinValue;
+        for (int k = axis; k < coordinates.Length; k += 3) { min = Math.Min(min, coordinates[k]); max = Math.Max(max, coordinates[k]); }
+        return coordinates.Length == 0 ? 0 : max - min;
     }
 
     private static void Panel(SvgWriter svg, ShapeInput input, double[] deformed, int h, int v, double ox, string label)
