@@ -1,6 +1,7 @@
 using Google.Protobuf.WellKnownTypes;
 using Google.Rpc;
 using Grpc.Core;
+using PathService.Engine;
 using PathService.Engine.Model;
 using PathService.Contracts.Mapping;
 
@@ -55,6 +56,15 @@ public static class RpcErrors
             Domain = Domain,
             Metadata = { ["node"] = Cut(ex.NodeId, 200), ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
         });
+
+    /// <summary>
+    /// FAILED_PRECONDITION for an input fault the engine found while computing (any <see cref="AnalysisInputException"/>):
+    /// ErrorInfo with the engine's reason and the field, and a field violation naming the field.
+    /// </summary>
+    public static RpcException Input(AnalysisInputException ex) =>
+        Build(StatusCode.FailedPrecondition, ex.Message,
+            new ErrorInfo { Reason = ex.Reason, Domain = Domain, Metadata = { ["field"] = Cut(ex.Field, 200) } },
+            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = Cut(ex.Field, 200), Description = Cut(ex.Message, 400) } } });
 
     /// <summary>FAILED_PRECONDITION for a start state that the requested analysis cannot handle (e.g. already unstable).</summary>
     public static RpcException Precondition(string reason, string message) =>

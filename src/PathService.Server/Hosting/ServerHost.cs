@@ -67,13 +67,16 @@ public static class ServerHost
             {
                 o.EnableDetailedErrors = false;
                 o.MaxReceiveMessageSize = options.Limits.MaxRequestBytes > 0 ? options.Limits.MaxRequestBytes : null;
+                // Deny by default: one interceptor for every service (health and reflection included; CallPolicy keeps
+                // its allow-list), so a service mapped later cannot run without authentication or the per-caller cap.
+                o.Interceptors.Add<ApiKeyInterceptor>();
             })
-            .AddServiceOptions<StructuralPathGrpcService>(o => o.Interceptors.Add<ApiKeyInterceptor>())
             // The richer error details must be known to the JSON formatter, or an error with details becomes a 500.
             .AddJsonTranscoding(o => o.TypeRegistry = Google.Protobuf.Reflection.TypeRegistry.FromMessages(
                 Google.Rpc.BadRequest.Descriptor, Google.Rpc.ErrorInfo.Descriptor, Google.Rpc.QuotaFailure.Descriptor, Google.Rpc.RetryInfo.Descriptor));
         if (options.EnableReflection) builder.Services.AddGrpcReflection();
         builder.Services.AddSingleton<ApiKeyAuthenticator>();
+        builder.Services.AddSingleton<CallPolicy>();
         builder.Services.AddSingleton<CallerLimiter>();
         builder.Services.AddSingleton<ShutdownCoordinator>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<ShutdownCoordinator>());
@@ -106,6 +109,10 @@ public static class ServerHost
         app.MapPathServiceTelemetry(options.Telemetry);
         // Fail at start, not at the first call, when the API key configuration is malformed.
         _ = app.Services.GetRequiredService<ApiKeyAuthenticator>();
+        // Instruments exist from the start: the meter provider first (so that it listens), then the service's meter,
+        // which writes its zero-valued series on creation; a fresh pod's /metrics shows every gauge and counter.
+        _ = app.Services.GetService<OpenTelemetry.Metrics.MeterProvider>();
+        _ = app.Services.GetRequiredService<PathServiceTelemetry>();
         return app;
     }
 
