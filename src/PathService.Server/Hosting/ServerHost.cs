@@ -99,8 +99,9 @@ public static class ServerHost
 
         var app = builder.Build();
         app.UseMiddleware<RequestIdMiddleware>();
-        app.UseSerilogRequestLogging();
+        app.UseSerilogRequestLogging(o => o.GetLevel = RequestLogLevel);
         app.UseMiddleware<RequestMessageGuard>();
+        app.UseMiddleware<JsonRequestGuard>();
         app.MapGrpcService<StructuralPathGrpcService>();
         app.MapGrpcService<ImperfectionStudyGrpcService>();
         app.MapGrpcHealthChecksService();
@@ -115,6 +116,16 @@ public static class ServerHost
         _ = app.Services.GetRequiredService<PathServiceTelemetry>();
         return app;
     }
+
+    /// <summary>
+    /// Level of the one-line request log: a request the client aborted (during the upload or while the answer was
+    /// streaming) is the client's doing and logged at Information whatever status Kestrel recorded; otherwise a 5xx
+    /// or an exception is an Error.
+    /// </summary>
+    internal static Serilog.Events.LogEventLevel RequestLogLevel(HttpContext context, double elapsedMs, Exception? ex) =>
+        context.RequestAborted.IsCancellationRequested ? Serilog.Events.LogEventLevel.Information
+        : ex is not null || context.Response.StatusCode >= 500 ? Serilog.Events.LogEventLevel.Error
+        : Serilog.Events.LogEventLevel.Information;
 
     /// <summary>PKCS#12 (with an optional password) or a PEM certificate with its PEM key.</summary>
     private static X509Certificate2 LoadCertificate(TlsOptions tls)
