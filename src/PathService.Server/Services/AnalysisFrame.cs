@@ -125,15 +125,22 @@ public sealed class AnalysisFrame(
     {
         var call = context.CancellationToken;
         if (ex is RpcException { StatusCode: not (StatusCode.Cancelled or StatusCode.DeadlineExceeded) } r) return r;
-        if (call.IsCancellationRequested || ex is OperationCanceledException or RpcException)
+        // The call is over when its token fired or its deadline passed: grpc-dotnet completes an expired call before it
+        // cancels the token, so a write in that window throws InvalidOperationException ("the request is complete")
+        // with the token still uncancelled; a client's own deadline timer resets the stream a few ms before the
+        // server's timer fires.
+        bool deadline = DeadlinePassed(context);
+        bool callOver = call.IsCancellationRequested || deadline;
+        bool endOfCall = ex is OperationCanceledException or IOException or ObjectDisposedException or RpcException
+            || (ex is InvalidOperationException && ex is not AnalysisInputException);
+        if (endOfCall && (callOver || ex is OperationCanceledException or RpcException))
         {
             if (abort.IsCancellationRequested && !call.IsCancellationRequested)
                 return new RpcException(new Status(StatusCode.Unavailable, "the server shut down before the analysis finished; retry on another instance"));
-            if (DeadlinePassed(context))
+            if (deadline)
                 return new RpcException(new Status(StatusCode.DeadlineExceeded, "the call's deadline expired before the analysis finished"));
             if (ex is RpcException rc) return rc;
-            if (call.IsCancellationRequested || ex is OperationCanceledException)
-                return new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled"));
+            return new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled"));
         }
         return ex switch
         {
@@ -144,9 +151,14 @@ public sealed class AnalysisFrame(
         };
     }
 
-    /// <summary>True when the call had a deadline and it has passed (grpc-dotnet cancels the call's token at the deadline).</summary>
+    /// <summary>
+    /// True when the call had a deadline and it has passed, or is due within <see cref="DeadlineSlack"/>: the client's
+    /// timer starts before the server's (the grpc-timeout header is relative), so its reset can arrive first.
+    /// </summary>
     private static bool DeadlinePassed(ServerCallContext context) =>
-        context.Deadline != DateTime.MaxValue && context.Deadline <= DateTime.UtcNow.AddMilliseconds(50);
+        context.Deadline != DateTime.MaxValue && context.Deadline <= DateTime.UtcNow + DeadlineSlack;
+
+    private static readonly TimeSpan DeadlineSlack = TimeSpan.FromMilliseconds(200);
 
     public static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads, Imperfection? imperfection = null)
     {
