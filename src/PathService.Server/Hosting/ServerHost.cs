@@ -30,8 +30,9 @@ public static class ServerHost
         var options = section.Get<PathServiceOptions>() ?? new PathServiceOptions();
         builder.Services.Configure<PathServiceOptions>(section);
 
-        var tls = options.Security.Tls;
-        var certificate = tls.Enabled ? LoadCertificate(tls) : null;
+        // Refuse bad settings at start, each named, rather than clamping them or failing at the first call.
+        var problems = OptionsValidation.Problems(options, out var certificate);
+        if (problems.Count > 0) throw new ConfigurationRefusedException(problems);
         var endpoints = new BoundEndpoints { Tls = certificate is not null };
         builder.Services.AddSingleton(endpoints);
         builder.WebHost.ConfigureKestrel(k =>
@@ -114,6 +115,7 @@ public static class ServerHost
         // which writes its zero-valued series on creation; a fresh pod's /metrics shows every gauge and counter.
         _ = app.Services.GetService<OpenTelemetry.Metrics.MeterProvider>();
         _ = app.Services.GetRequiredService<PathServiceTelemetry>();
+        _ = app.Services.GetService<ExportFailureLog>();
         return app;
     }
 
@@ -127,13 +129,6 @@ public static class ServerHost
         : ex is not null || context.Response.StatusCode >= 500 ? Serilog.Events.LogEventLevel.Error
         : Serilog.Events.LogEventLevel.Information;
 
-    /// <summary>PKCS#12 (with an optional password) or a PEM certificate with its PEM key.</summary>
-    private static X509Certificate2 LoadCertificate(TlsOptions tls)
-    {
-        if (!string.IsNullOrWhiteSpace(tls.KeyPath))
-            return X509Certificate2.CreateFromPemFile(tls.CertificatePath, tls.KeyPath);
-        return X509CertificateLoader.LoadPkcs12FromFile(tls.CertificatePath, string.IsNullOrEmpty(tls.CertificatePassword) ? null : tls.CertificatePassword);
-    }
 }
 
 /// <summary>Healthy while the server accepts analyses; Unhealthy (NOT_SERVING) from the start of a shutdown.</summary>
