@@ -90,7 +90,7 @@ public sealed class AnalysisFrame(
             else if (rpcEx.StatusCode is StatusCode.Cancelled)
                 logger.LogInformation("{Rpc} cancelled by the caller ({ExceptionType})", rpc, ex.GetType().Name);
             else
-                logger.LogInformation("{Rpc} refused with {StatusCode}: {Detail}", rpc, rpcEx.StatusCode, LogText.Cut(rpcEx.Status.Detail, 300));
+                logger.LogInformation("{Rpc} refused with {StatusCode}: {Detail}", rpc, rpcEx.StatusCode, LogText.Cut(LogText.CutQuoted(rpcEx.Status.Detail), 300));
             if (ReferenceEquals(rpcEx, ex)) throw;
             throw rpcEx;
         }
