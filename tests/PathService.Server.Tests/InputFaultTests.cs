@@ -80,4 +80,16 @@ public sealed class InputFaultTests(ServerFixture server)
         var violation = ex.GetRpcStatus()!.GetDetail<BadRequest>()!.FieldViolations.Single(v => v.Field == "model.supports[0].direction");
         Assert.Contains("not set", violation.Description);
     }
+
+    [Fact]
+    public async Task An_imperfection_shape_of_zeros_is_a_failed_precondition_not_internal()
+    {
+        var request = Requests.Truss();
+        request.Imperfection = new Imperfection { Shape = { new ShapeVector { Node = "apex" } }, Amplitude = 0.01 };
+        var ex = await Assert.ThrowsAsync<RpcException>(() => Requests.ReadAllAsync(server.Client.TracePath(request)));
+        Assert.Equal(StatusCode.FailedPrecondition, ex.StatusCode);
+        var info = ex.GetRpcStatus()!.GetDetail<ErrorInfo>()!;
+        Assert.Equal("ZERO_IMPERFECTION_SHAPE", info.Reason);
+        Assert.Equal("imperfection", info.Metadata["field"]);
+    }
 }
