@@ -93,4 +93,31 @@ public sealed class DeadlineAccountingTests(ServerFixture server, ITestOutputHel
         Assert.Equal(5, failed.GetValueOrDefault("Cancelled"));
         Assert.False(failed.ContainsKey("DeadlineExceeded"));
     }
+
+    [Fact]
+    public async Task Clients_that_cancel_during_a_large_upload_are_not_logged_as_faults()
+    {
+        var original = Console.Out;
+        var captured = new StringWriter();
+        Console.SetOut(TextWriter.Synchronized(captured));
+        int cancelled = 0;
+        try
+        {
+            for (int i = 0; i < 10; i++)
+            {
+                var request = Requests.Truss();
+                request.Model.Name = new string('u', 6 << 20); // 6 MiB: the upload takes a while over loopback
+                using var cts = new CancellationTokenSource(TimeSpan.FromMilliseconds(1 + i));
+                try { await Requests.ReadAllAsync(server.Client.TracePath(request, cancellationToken: cts.Token)); }
+                catch (RpcException ex) when (ex.StatusCode == StatusCode.Cancelled) { cancelled++; }
+            }
+            Assert.True(await server.WaitForIdleAsync(TimeSpan.FromSeconds(5)));
+            await Task.Delay(300);
+        }
+        finally { Console.SetOut(original); }
+        Assert.True(cancelled > 0, "no call was cancelled: the test did not exercise an aborted upload");
+        string logs = captured.ToString();
+        Assert.DoesNotContain("\"@l\":\"Error\"", logs);
+        Assert.DoesNotContain("responded 500", logs);
+    }
 }
