@@ -2,6 +2,7 @@ using System.Diagnostics;
 using System.Text.Json;
 using PathService.Server.Configuration;
 using PathService.Server.Hosting;
+using PathService.Server.Tests.Fixtures;
 
 namespace PathService.Server.Tests;
 
@@ -10,6 +11,7 @@ namespace PathService.Server.Tests;
 /// clamped silently; a TLS file that does not load is such a problem, not a plain-text stack; API keys over cleartext
 /// on a non-loopback address are refused unless explicitly allowed. The process tests run the built server.
 /// </summary>
+[Collection(ServerCollection.Name)] // one after another with the other server tests: three child processes starting at once would skew their timings
 public sealed class ConfigurationTests
 {
     private static string ServerDll()
