@@ -24,13 +24,13 @@ public static class ControlsMapper
                 Proto.ContinuationMethod.LoadControl => ContinuationMethod.LoadControl,
                 Proto.ContinuationMethod.DisplacementControl => ContinuationMethod.DisplacementControl,
                 Proto.ContinuationMethod.ArcLength => ContinuationMethod.ArcLength,
-                _ => (ContinuationMethod)(-1), // reported by the engine's validator as an unknown method
+                _ => (ContinuationMethod)(int)c.Method, // the number sent (never 0..3): reported by the engine's validator
             },
             Constraint = c.Constraint switch
             {
                 Proto.ArcLengthConstraint.Unspecified or Proto.ArcLengthConstraint.Cylindrical => ArcLengthConstraint.Cylindrical,
                 Proto.ArcLengthConstraint.Spherical => ArcLengthConstraint.Spherical,
-                _ => (ArcLengthConstraint)(-1),
+                _ => (ArcLengthConstraint)(int)c.Constraint, // the number sent (never 0..2)
             },
             InitialLoadIncrement = c.HasInitialLoadIncrement ? c.InitialLoadIncrement : d.InitialLoadIncrement,
             ControlDof = ModelMapper.ToDof(c.ControlDof),

@@ -1,3 +1,4 @@
+using PathService.Engine;
 using PathService.Engine.Analyses;
 using PathService.Engine.Model;
 using PathService.Engine.Stability;
@@ -48,7 +49,13 @@ public static class ImperfectionMapper
                     Bad($"imperfection.buckling_modes[{i}]", $"buckling mode number {imp.BucklingModes[i]} is outside 1..{MaxModeNumber}");
             if (findings.Count == 0)
             {
-                var buckling = LinearBucklingAnalysis.Run(StructuralModel.Create(perfect), imp.BucklingModes.Max());
+                LinearBucklingResult buckling;
+                try { buckling = LinearBucklingAnalysis.Run(StructuralModel.Create(perfect), imp.BucklingModes.Max()); }
+                catch (AnalysisInputException ex)
+                {
+                    // The buckling step is input-dependent: name the imperfection field that asked for it.
+                    throw new AnalysisInputException(ex.Reason, "imperfection.buckling_modes", $"the imperfection is shaped by buckling modes, but {ex.Message}");
+                }
                 foreach (int mode in imp.BucklingModes)
                 {
                     if (mode > buckling.Modes.Count) { Bad("imperfection.buckling_modes", $"the model has only {buckling.Modes.Count} positive buckling modes; mode {mode} does not exist"); break; }

@@ -11,15 +11,20 @@ namespace PathService.Contracts.Mapping;
 /// </summary>
 public static class ModelMapper
 {
-    /// <summary>Stands for DIRECTION_UNSPECIFIED (or an unknown enum number); the engine reports it as an invalid direction.</summary>
-    public const Axis NoAxis = (Axis)(-1);
+    /// <summary>Stands for DIRECTION_UNSPECIFIED; the engine reports it as a direction that is not set.</summary>
+    public const Axis NoAxis = (Axis)int.MinValue;
 
+    /// <summary>
+    /// An unknown enum number is passed on as the number itself (unknown proto numbers are never 0..3, so they cannot
+    /// alias an engine axis), so that the validator's message shows the value the caller sent.
+    /// </summary>
     public static Axis ToAxis(Direction d) => d switch
     {
         Direction.X => Axis.X,
         Direction.Y => Axis.Y,
         Direction.Z => Axis.Z,
-        _ => NoAxis,
+        Direction.Unspecified => NoAxis,
+        _ => (Axis)(int)d,
     };
 
     public static Direction ToDirection(Axis a) => a switch
@@ -52,7 +57,7 @@ public static class ModelMapper
                     BarBehaviour.Unspecified or BarBehaviour.TensionAndCompression => Engine.Elements.BarBehaviour.Elastic,
                     BarBehaviour.TensionOnly => Engine.Elements.BarBehaviour.TensionOnly,
                     BarBehaviour.CompressionOnly => Engine.Elements.BarBehaviour.CompressionOnly,
-                    _ => (Engine.Elements.BarBehaviour)(-1), // reported by the validator
+                    _ => (Engine.Elements.BarBehaviour)(int)b.Behaviour, // the number sent (never 0..3): reported by the validator
                 },
                 YieldStress = b.YieldStress,
                 SecondMoment = b.SecondMoment,

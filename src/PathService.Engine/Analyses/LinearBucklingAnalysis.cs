@@ -50,7 +50,7 @@ public static class LinearBucklingAnalysis
         kA.CopyTo(sys.Values, 0);
         var status = sys.Factor.Factorize(sys.Values, tinyPivotRatio);
         if (status == LdlStatus.ZeroPivot || sys.Factor.NegativePivotCount > 0)
-            throw new InvalidOperationException("the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
+            throw new AnalysisInputException("UNSTABLE_START", "model", "the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
 
         int q = Math.Min(n, Math.Max(2 * modeCount, modeCount + 8));
         int p = Math.Min(modeCount, n);
@@ -96,7 +96,7 @@ public static class LinearBucklingAnalysis
             double aMax = aEvd.EigenValues.Max(e => e.Real);
             var keep = Enumerable.Range(0, q).Where(k => aEvd.EigenValues[k].Real > 1e-12 * aMax).ToArray();
             if (keep.Length == 0 || !(aMax > 0))
-                throw new InvalidOperationException("the reference load produces no geometric stiffness, so there is no linearised buckling load");
+                throw new AnalysisInputException("NO_GEOMETRIC_STIFFNESS", "load_case.reference", "the reference load produces no geometric stiffness, so there is no linearised buckling load");
             var T = Matrix<double>.Build.Dense(q, keep.Length, (i, j) => aEvd.EigenVectors[i, keep[j]] / Math.Sqrt(aEvd.EigenValues[keep[j]].Real));
             var m = T.TransposeThisAndMultiply(cBar) * T;
             m = 0.5 * (m + m.Transpose());

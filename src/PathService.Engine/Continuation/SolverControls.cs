@@ -92,8 +92,8 @@ public sealed record SolverControls
             if (model.Dofs.EquationOf[DofMap.Full(n, d.Direction)] < 0 && field == "control_dof")
                 f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}", d.Node, $"control DOF {d} is restrained by a support; choose a free direction"));
         }
-        if (Method is not (ContinuationMethod.LoadControl or ContinuationMethod.DisplacementControl or ContinuationMethod.ArcLength)) Err("method", "unknown continuation method");
-        if (Constraint is not (ArcLengthConstraint.Cylindrical or ArcLengthConstraint.Spherical)) Err("constraint", "unknown arc-length constraint");
+        if (Method is not (ContinuationMethod.LoadControl or ContinuationMethod.DisplacementControl or ContinuationMethod.ArcLength)) Err("method", $"unknown continuation method {(int)Method}");
+        if (Constraint is not (ArcLengthConstraint.Cylindrical or ArcLengthConstraint.Spherical)) Err("constraint", $"unknown arc-length constraint {(int)Constraint}");
         if (Method != ContinuationMethod.DisplacementControl) Positive(InitialLoadIncrement, "initial_load_increment");
         if (Method == ContinuationMethod.DisplacementControl)
         {

@@ -306,7 +306,7 @@ public static class ModelValidator
     private static bool CheckAxis(Axis axis, string path, string? itemId, List<ValidationFinding> findings)
     {
         if (axis is Axis.X or Axis.Y or Axis.Z) return true;
-        findings.Add(Error(FindingCode.InvalidDirection, path, itemId, $"direction {(int)axis} is not one of x, y, z"));
+        findings.Add(Error(FindingCode.InvalidDirection, path, itemId, (int)axis == int.MinValue ? "direction is not set (give x, y or z)" : $"direction {(int)axis} is not one of x, y, z"));
         return false;
     }
 

@@ -26,7 +26,9 @@ public static class Imperfections
         double peak = 0;
         for (int k = 0; k < n; k++)
             peak = Math.Max(peak, Math.Sqrt(combined[3 * k] * combined[3 * k] + combined[3 * k + 1] * combined[3 * k + 1] + combined[3 * k + 2] * combined[3 * k + 2]));
-        if (!(peak > 0) || !double.IsFinite(peak)) throw new ArgumentException("the imperfection shape is zero or not finite", nameof(shapes));
+        // Input-dependent (an explicit shape of zeros, or weights that cancel): an input fault, not a programming error.
+        if (!(peak > 0) || !double.IsFinite(peak))
+            throw new AnalysisInputException("ZERO_IMPERFECTION_SHAPE", "imperfection", "the imperfection shape is zero (or not finite) once weighted and summed, so it cannot be scaled to the amplitude");
         double scale = amplitude / peak;
         var nodes = definition.Nodes.Select((nd, k) => nd with
         {

@@ -61,6 +61,11 @@ public sealed class SecurityOptions
 {
     public TlsOptions Tls { get; set; } = new();
     public ApiKeyOptions ApiKeys { get; set; } = new();
+    /// <summary>
+    /// API keys over cleartext on an address other than loopback are refused at start, since the keys would cross the
+    /// network readable; set true only where the traffic is encrypted outside the process (a TLS-terminating proxy, a mesh).
+    /// </summary>
+    public bool AllowKeysOverCleartext { get; set; }
 }
 
 /// <summary>
@@ -119,6 +124,8 @@ public sealed class TelemetryOptions
     public string PrometheusPath { get; set; } = "/metrics";
     /// <summary>Path of the plain HTTP health endpoint (200 Healthy / 503 Unhealthy), open without authentication; empty turns it off. gRPC health is always on the gRPC port.</summary>
     public string HealthPath { get; set; } = "/healthz";
+    /// <summary>Interval of the OTLP metric export in seconds (the SDK's default is 60).</summary>
+    public double ExportIntervalSeconds { get; set; } = 60;
     /// <summary>service.name resource attribute of traces and metrics.</summary>
     public string ServiceName { get; set; } = "pathservice";
 }

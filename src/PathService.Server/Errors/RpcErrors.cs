@@ -1,6 +1,7 @@
 using Google.Protobuf.WellKnownTypes;
 using Google.Rpc;
 using Grpc.Core;
+using PathService.Engine;
 using PathService.Engine.Model;
 using PathService.Contracts.Mapping;
 
@@ -30,7 +31,7 @@ public static class RpcErrors
         int budget = 16 * 1024;
         foreach (var f in errors.Take(MaxViolations))
         {
-            var v = new BadRequest.Types.FieldViolation { Field = Cut(FieldPaths.ToRequestPath(f.FieldPath), 200), Description = Cut(Describe(f), 400) };
+            var v = new BadRequest.Types.FieldViolation { Field = Cut(FieldPaths.ToRequestPath(f.FieldPath), 200), Description = Cut(LogText.CutQuoted(Describe(f)), 400) };
             budget -= v.Field.Length + v.Description.Length + 8;
             if (budget < 0) break;
             bad.FieldViolations.Add(v);
@@ -53,8 +54,17 @@ public static class RpcErrors
         {
             Reason = "MECHANISM",
             Domain = Domain,
-            Metadata = { ["node"] = Cut(ex.NodeId, 200), ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
+            Metadata = { ["node"] = LogText.Cut(ex.NodeId), ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
         });
+
+    /// <summary>
+    /// FAILED_PRECONDITION for an input fault the engine found while computing (any <see cref="AnalysisInputException"/>):
+    /// ErrorInfo with the engine's reason and the field, and a field violation naming the field.
+    /// </summary>
+    public static RpcException Input(AnalysisInputException ex) =>
+        Build(StatusCode.FailedPrecondition, ex.Message,
+            new ErrorInfo { Reason = ex.Reason, Domain = Domain, Metadata = { ["field"] = Cut(ex.Field, 200) } },
+            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = Cut(ex.Field, 200), Description = Cut(ex.Message, 400) } } });
 
     /// <summary>FAILED_PRECONDITION for a start state that the requested analysis cannot handle (e.g. already unstable).</summary>
     public static RpcException Precondition(string reason, string message) =>
@@ -87,7 +97,7 @@ public static class RpcErrors
     private static string Cut(string s, int max) => s.Length <= max ? s : s[..max] + "…";
 
     private static string Describe(ValidationFinding f) =>
-        f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{id}')" : f.Message;
+        f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{LogText.Cut(id)}')" : f.Message;
 
     /// <summary>FAILED_PRECONDITION when the result of a well-formed model is not finite (its numbers overflow double precision).</summary>
     public static RpcException NonFinite(string where) =>
@@ -97,6 +107,8 @@ public static class RpcErrors
 
     private static RpcException Build(StatusCode code, string message, params Google.Protobuf.IMessage[] details)
     {
+        // Caller strings quoted in the message (ids, names) are cut, then the message itself.
+        message = LogText.CutQuoted(message);
         if (message.Length > 1000) message = message[..1000] + "…";
         var status = new Google.Rpc.Status { Code = (int)code, Message = message };
         foreach (var d in details) status.Details.Add(Any.Pack(d));

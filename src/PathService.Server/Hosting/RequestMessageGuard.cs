@@ -1,29 +1,23 @@
 using System.Buffers.Binary;
 using Google.Protobuf;
 using Microsoft.Extensions.Options;
-using PathService.Contracts.V1;
+using PathService.Server.Security;
 using PathService.Server.Configuration;
 
 namespace PathService.Server.Hosting;
 
 /// <summary>
-/// Checks the single request message of every analysis RPC before gRPC sees it. grpc-dotnet reports a message that
+/// Checks the single request message of every unary and server-streaming RPC of the contract (taken from the service
+/// descriptors, <see cref="ContractCatalog"/>, so a new RPC is covered without being listed) before gRPC sees it.
+/// Authentication comes first (<see cref="CallPolicy"/>): a caller without a valid key gets UNAUTHENTICATED or
+/// PERMISSION_DENIED before a byte of its body is read. grpc-dotnet reports a message that
 /// does not parse (random, truncated or corrupted bytes) as UNKNOWN "Exception was thrown by handler", because the
 /// deserialiser runs outside the service; bad input must get INVALID_ARGUMENT. So this middleware reads the (bounded)
 /// body, checks the gRPC frame and parses the message; a bad one gets a trailers-only INVALID_ARGUMENT (an oversized one
 /// RESOURCE_EXHAUSTED), a good one is handed on unchanged. The cost is one extra parse of the request.
 /// </summary>
-public sealed class RequestMessageGuard(RequestDelegate next, IOptions<PathServiceOptions> options)
+public sealed class RequestMessageGuard(RequestDelegate next, IOptions<PathServiceOptions> options, CallPolicy policy, ILogger<RequestMessageGuard> logger)
 {
-    private const string Prefix = "/pathservice.v1.StructuralPathService/";
-
-    private static readonly Dictionary<string, MessageParser> Parsers = new(StringComparer.Ordinal)
-    {
-        [Prefix + "TracePath"] = TracePathRequest.Parser,
-        [Prefix + "CheckModel"] = CheckModelRequest.Parser,
-        [Prefix + "AnalyzeLinear"] = AnalyzeLinearRequest.Parser,
-        [Prefix + "FindBucklingModes"] = FindBucklingModesRequest.Parser,
-    };
 
     private readonly int _maxBytes = options.Value.Limits.MaxRequestBytes > 0 ? options.Value.Limits.MaxRequestBytes : int.MaxValue - 64;
 
@@ -33,30 +27,48 @@ public sealed class RequestMessageGuard(RequestDelegate next, IOptions<PathServi
         if (!HttpMethods.IsPost(request.Method)
             || request.ContentType is not { } type || !type.StartsWith("application/grpc", StringComparison.OrdinalIgnoreCase)
             || type.StartsWith("application/grpc-web", StringComparison.OrdinalIgnoreCase)
-            || !Parsers.TryGetValue(request.Path.Value ?? "", out var parser))
+            || !ContractCatalog.SingleRequestMethods.TryGetValue(request.Path.Value ?? "", out var method))
         {
             await next(context);
             return;
         }
+        var admission = policy.Admit(request.Path.Value!, request.Headers[policy.Header].FirstOrDefault(), out _);
+        if (policy.RefusalOf(admission) is { } refusal)
+        {
+            await RefuseAsync(context, (int)refusal.StatusCode, refusal.Detail);
+            return;
+        }
+        var parser = ContractCatalog.ParserOf(method);
 
         // Read at most the limit plus the frame header plus one byte, to tell "too large" from "exactly the limit".
         long cap = (long)_maxBytes + 6;
         using var buffer = new MemoryStream();
         var chunk = new byte[16 * 1024];
         int read;
-        while ((read = await request.Body.ReadAsync(chunk, context.RequestAborted)) > 0)
+        try
         {
-            buffer.Write(chunk, 0, read);
-            if (buffer.Length > cap)
+            while ((read = await request.Body.ReadAsync(chunk, context.RequestAborted)) > 0)
             {
-                await RefuseAsync(context, 8, $"the request message is larger than {_maxBytes} bytes, the limit of this server");
-                return;
+                buffer.Write(chunk, 0, read);
+                if (buffer.Length > cap)
+                {
+                    await RefuseAsync(context, 8, $"the request message is larger than {_maxBytes} bytes, the limit of this server");
+                    return;
+                }
             }
+        }
+        catch (Exception ex) when (context.RequestAborted.IsCancellationRequested || ex is IOException or OperationCanceledException)
+        {
+            // The client went away during the upload: nobody is left to answer, and it is not a server fault.
+            logger.LogInformation("{Method}: the client aborted the call while sending the request ({ExceptionType})", method.Name, ex.GetType().Name);
+            context.Abort();
+            return;
         }
         byte[] body = buffer.ToArray();
         string? problem = Check(body, parser, request.Headers["grpc-encoding"].ToString());
         if (problem is not null)
         {
+            logger.LogInformation("{Method} refused with InvalidArgument: {Detail}", method.Name, LogText.Cut(problem, 200));
             await RefuseAsync(context, 3, problem);
             return;
         }

@@ -30,8 +30,9 @@ public static class ServerHost
         var options = section.Get<PathServiceOptions>() ?? new PathServiceOptions();
         builder.Services.Configure<PathServiceOptions>(section);
 
-        var tls = options.Security.Tls;
-        var certificate = tls.Enabled ? LoadCertificate(tls) : null;
+        // Refuse bad settings at start, each named, rather than clamping them or failing at the first call.
+        var problems = OptionsValidation.Problems(options, out var certificate);
+        if (problems.Count > 0) throw new ConfigurationRefusedException(problems);
         var endpoints = new BoundEndpoints { Tls = certificate is not null };
         builder.Services.AddSingleton(endpoints);
         builder.WebHost.ConfigureKestrel(k =>
@@ -67,13 +68,16 @@ public static class ServerHost
             {
                 o.EnableDetailedErrors = false;
                 o.MaxReceiveMessageSize = options.Limits.MaxRequestBytes > 0 ? options.Limits.MaxRequestBytes : null;
+                // Deny by default: one interceptor for every service (health and reflection included; CallPolicy keeps
+                // its allow-list), so a service mapped later cannot run without authentication or the per-caller cap.
+                o.Interceptors.Add<ApiKeyInterceptor>();
             })
-            .AddServiceOptions<StructuralPathGrpcService>(o => o.Interceptors.Add<ApiKeyInterceptor>())
             // The richer error details must be known to the JSON formatter, or an error with details becomes a 500.
             .AddJsonTranscoding(o => o.TypeRegistry = Google.Protobuf.Reflection.TypeRegistry.FromMessages(
                 Google.Rpc.BadRequest.Descriptor, Google.Rpc.ErrorInfo.Descriptor, Google.Rpc.QuotaFailure.Descriptor, Google.Rpc.RetryInfo.Descriptor));
         if (options.EnableReflection) builder.Services.AddGrpcReflection();
         builder.Services.AddSingleton<ApiKeyAuthenticator>();
+        builder.Services.AddSingleton<CallPolicy>();
         builder.Services.AddSingleton<CallerLimiter>();
         builder.Services.AddSingleton<ShutdownCoordinator>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<ShutdownCoordinator>());
@@ -96,8 +100,9 @@ public static class ServerHost
 
         var app = builder.Build();
         app.UseMiddleware<RequestIdMiddleware>();
-        app.UseSerilogRequestLogging();
+        app.UseSerilogRequestLogging(o => o.GetLevel = RequestLogLevel);
         app.UseMiddleware<RequestMessageGuard>();
+        app.UseMiddleware<JsonRequestGuard>();
         app.MapGrpcService<StructuralPathGrpcService>();
         app.MapGrpcService<ImperfectionStudyGrpcService>();
         app.MapGrpcHealthChecksService();
@@ -106,16 +111,24 @@ public static class ServerHost
         app.MapPathServiceTelemetry(options.Telemetry);
         // Fail at start, not at the first call, when the API key configuration is malformed.
         _ = app.Services.GetRequiredService<ApiKeyAuthenticator>();
+        // Instruments exist from the start: the meter provider first (so that it listens), then the service's meter,
+        // which writes its zero-valued series on creation; a fresh pod's /metrics shows every gauge and counter.
+        _ = app.Services.GetService<OpenTelemetry.Metrics.MeterProvider>();
+        _ = app.Services.GetRequiredService<PathServiceTelemetry>();
+        _ = app.Services.GetService<ExportFailureLog>();
         return app;
     }
 
-    /// <summary>PKCS#12 (with an optional password) or a PEM certificate with its PEM key.</summary>
-    private static X509Certificate2 LoadCertificate(TlsOptions tls)
-    {
-        if (!string.IsNullOrWhiteSpace(tls.KeyPath))
-            return X509Certificate2.CreateFromPemFile(tls.CertificatePath, tls.KeyPath);
-        return X509CertificateLoader.LoadPkcs12FromFile(tls.CertificatePath, string.IsNullOrEmpty(tls.CertificatePassword) ? null : tls.CertificatePassword);
-    }
+    /// <summary>
+    /// Level of the one-line request log: a request the client aborted (during the upload or while the answer was
+    /// streaming) is the client's doing and logged at Information whatever status Kestrel recorded; otherwise a 5xx
+    /// or an exception is an Error.
+    /// </summary>
+    internal static Serilog.Events.LogEventLevel RequestLogLevel(HttpContext context, double elapsedMs, Exception? ex) =>
+        context.RequestAborted.IsCancellationRequested ? Serilog.Events.LogEventLevel.Information
+        : ex is not null || context.Response.StatusCode >= 500 ? Serilog.Events.LogEventLevel.Error
+        : Serilog.Events.LogEventLevel.Information;
+
 }
 
 /// <summary>Healthy while the server accepts analyses; Unhealthy (NOT_SERVING) from the start of a shutdown.</summary>

@@ -4,12 +4,12 @@ using Grpc.Core.Interceptors;
 namespace PathService.Server.Security;
 
 /// <summary>
-/// Authentication of the analysis service (health, metrics and reflection are not intercepted). No key →
-/// UNAUTHENTICATED; a key that is not one of the configured keys → PERMISSION_DENIED (the caller did present
-/// credentials; the server refuses them). The accepted caller is left in the call's UserState for the per-caller limit.
-/// The key itself is never logged.
+/// Authentication of every gRPC method, registered globally (so JSON-transcoded calls pass it too) and applied to all
+/// four kinds of handler; <see cref="CallPolicy"/> decides. No key → UNAUTHENTICATED; a key that is not one of the
+/// configured keys → PERMISSION_DENIED (the caller did present credentials; the server refuses them). The accepted
+/// caller is left in the call's UserState for the per-caller limit. The key itself is never logged.
 /// </summary>
-public sealed class ApiKeyInterceptor(ApiKeyAuthenticator keys, ILogger<ApiKeyInterceptor> logger) : Interceptor
+public sealed class ApiKeyInterceptor(CallPolicy policy) : Interceptor
 {
     public const string CallerKey = "pathservice.caller";
 
@@ -25,26 +25,23 @@ public sealed class ApiKeyInterceptor(ApiKeyAuthenticator keys, ILogger<ApiKeyIn
         return continuation(request, responseStream, context);
     }
 
+    public override Task<TResponse> ClientStreamingServerHandler<TRequest, TResponse>(IAsyncStreamReader<TRequest> requestStream, ServerCallContext context, ClientStreamingServerMethod<TRequest, TResponse> continuation)
+    {
+        Authenticate(context);
+        return continuation(requestStream, context);
+    }
+
+    public override Task DuplexStreamingServerHandler<TRequest, TResponse>(IAsyncStreamReader<TRequest> requestStream, IServerStreamWriter<TResponse> responseStream, ServerCallContext context, DuplexStreamingServerMethod<TRequest, TResponse> continuation)
+    {
+        Authenticate(context);
+        return continuation(requestStream, responseStream, context);
+    }
+
     private void Authenticate(ServerCallContext context)
     {
-        if (!keys.Enabled)
-        {
-            context.UserState[CallerKey] = Caller.Anonymous;
-            return;
-        }
-        string? presented = context.RequestHeaders.GetValue(keys.Header);
-        switch (keys.Check(presented, out var caller))
-        {
-            case KeyCheck.Accepted:
-                context.UserState[CallerKey] = caller!;
-                return;
-            case KeyCheck.Missing:
-                logger.LogInformation("Refused {Method}: no API key", context.Method);
-                throw new RpcException(new Status(StatusCode.Unauthenticated, $"this server requires an API key in the '{keys.Header}' header"));
-            default:
-                logger.LogWarning("Refused {Method}: unknown API key from {Peer}", context.Method, context.Peer);
-                throw new RpcException(new Status(StatusCode.PermissionDenied, "the API key is not valid for this server"));
-        }
+        var admission = policy.Admit(context.Method, context.RequestHeaders.GetValue(policy.Header), out var caller);
+        if (policy.RefusalOf(admission) is { } refusal) throw new RpcException(refusal);
+        context.UserState[CallerKey] = caller;
     }
 
     public static Caller CallerOf(ServerCallContext context) =>

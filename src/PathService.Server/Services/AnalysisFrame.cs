@@ -2,6 +2,7 @@ using System.Diagnostics;
 using Grpc.Core;
 using PathService.Contracts.Mapping;
 using PathService.Contracts.V1;
+using PathService.Engine;
 using PathService.Engine.Model;
 using PathService.Server.Errors;
 using PathService.Server.Hosting;
@@ -46,6 +47,7 @@ public sealed class AnalysisFrame(
             ["Bars"] = model?.Bars.Count ?? 0,
         });
         using var abort = CancellationTokenSource.CreateLinkedTokenSource(context.CancellationToken, shutdown.AbortToken);
+        long started = Stopwatch.GetTimestamp();
         try
         {
             ThrowIfDraining();
@@ -66,13 +68,15 @@ public sealed class AnalysisFrame(
             try { outcome = await run(abort.Token); }
             finally { telemetry.AnalysesActive.Add(-1); }
             telemetry.AnalysesCompleted.Add(1, rpcTag, new("outcome", outcome));
+            telemetry.AnalysisDuration.Record(Stopwatch.GetElapsedTime(started).TotalSeconds, rpcTag, new("status", "OK"));
             activity?.SetTag("pathservice.outcome", outcome);
         }
         catch (Exception ex)
         {
-            var rpcEx = Translate(ex, context.CancellationToken, shutdown.AbortToken);
+            var rpcEx = Translate(ex, context, shutdown.AbortToken);
             string reason = rpcEx?.StatusCode.ToString() ?? ex.GetType().Name;
             telemetry.AnalysesFailed.Add(1, rpcTag, new("reason", reason));
+            telemetry.AnalysisDuration.Record(Stopwatch.GetElapsedTime(started).TotalSeconds, rpcTag, new("status", reason));
             activity?.SetStatus(ActivityStatusCode.Error, reason);
             if (rpcEx is null)
             {
@@ -81,10 +85,12 @@ public sealed class AnalysisFrame(
                 logger.LogError("{Rpc} failed unexpectedly: {ExceptionType}{NewLine}{StackTrace}", rpc, ex.GetType().FullName, Environment.NewLine, ex.StackTrace);
                 throw new RpcException(new Status(StatusCode.Internal, "internal error of the analysis service"));
             }
-            if (rpcEx.StatusCode is StatusCode.Cancelled or StatusCode.DeadlineExceeded)
-                logger.LogInformation("{Rpc} cancelled by the caller", rpc);
+            if (rpcEx.StatusCode is StatusCode.DeadlineExceeded)
+                logger.LogInformation("{Rpc} stopped: the caller's deadline expired ({ExceptionType})", rpc, ex.GetType().Name);
+            else if (rpcEx.StatusCode is StatusCode.Cancelled)
+                logger.LogInformation("{Rpc} cancelled by the caller ({ExceptionType})", rpc, ex.GetType().Name);
             else
-                logger.LogInformation("{Rpc} refused with {StatusCode}: {Detail}", rpc, rpcEx.StatusCode, Truncate(rpcEx.Status.Detail, 300));
+                logger.LogInformation("{Rpc} refused with {StatusCode}: {Detail}", rpc, rpcEx.StatusCode, LogText.Cut(LogText.CutQuoted(rpcEx.Status.Detail), 300));
             if (ReferenceEquals(rpcEx, ex)) throw;
             throw rpcEx;
         }
@@ -109,17 +115,50 @@ public sealed class AnalysisFrame(
                 $"the analysis of this model needs about {estimate.Bytes / (1024.0 * 1024):F0} MiB ({estimate.FactorEntries} factor entries for {model.Dofs.FreeCount} free DOFs); this server allows {mib:F0} MiB per analysis");
     }
 
-    /// <summary>Maps a failure to the status the caller should see; null for a genuine server fault (then INTERNAL).</summary>
-    private static RpcException? Translate(Exception ex, CancellationToken call, CancellationToken abort) => ex switch
+    /// <summary>
+    /// Maps a failure to the status the caller should see; null for a genuine server fault (then INTERNAL). Anything
+    /// thrown once the call itself is over (the caller cancelled, its deadline passed, the connection went away) is
+    /// CANCELLED or DEADLINE_EXCEEDED whatever its type: a write to a stream whose call has ended throws
+    /// IOException or InvalidOperationException, and that is the caller's doing, not a fault.
+    /// </summary>
+    private static RpcException? Translate(Exception ex, ServerCallContext context, CancellationToken abort)
     {
-        RpcException r => r,
-        ModelValidationException v => RpcErrors.Invalid(v.Findings),
-        MechanismException m => RpcErrors.Mechanism(m),
-        OperationCanceledException when abort.IsCancellationRequested && !call.IsCancellationRequested =>
-            new RpcException(new Status(StatusCode.Unavailable, "the server shut down before the analysis finished; retry on another instance")),
-        OperationCanceledException => new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled")),
-        _ => null,
-    };
+        var call = context.CancellationToken;
+        if (ex is RpcException { StatusCode: not (StatusCode.Cancelled or StatusCode.DeadlineExceeded) } r) return r;
+        // The call is over when its token fired or its deadline passed: grpc-dotnet completes an expired call before it
+        // cancels the token, so a write in that window throws InvalidOperationException ("the request is complete")
+        // with the token still uncancelled; a client's own deadline timer resets the stream a few ms before the
+        // server's timer fires.
+        bool deadline = DeadlinePassed(context);
+        bool callOver = call.IsCancellationRequested || deadline;
+        bool endOfCall = ex is OperationCanceledException or IOException or ObjectDisposedException or RpcException
+            || (ex is InvalidOperationException && ex is not AnalysisInputException);
+        if (endOfCall && (callOver || ex is OperationCanceledException or RpcException))
+        {
+            if (abort.IsCancellationRequested && !call.IsCancellationRequested)
+                return new RpcException(new Status(StatusCode.Unavailable, "the server shut down before the analysis finished; retry on another instance"));
+            if (deadline)
+                return new RpcException(new Status(StatusCode.DeadlineExceeded, "the call's deadline expired before the analysis finished"));
+            if (ex is RpcException rc) return rc;
+            return new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled"));
+        }
+        return ex switch
+        {
+            ModelValidationException v => RpcErrors.Invalid(v.Findings),
+            MechanismException m => RpcErrors.Mechanism(m),
+            AnalysisInputException a => RpcErrors.Input(a),
+            _ => null,
+        };
+    }
+
+    /// <summary>
+    /// True when the call had a deadline and it has passed, or is due within <see cref="DeadlineSlack"/>: the client's
+    /// timer starts before the server's (the grpc-timeout header is relative), so its reset can arrive first.
+    /// </summary>
+    private static bool DeadlinePassed(ServerCallContext context) =>
+        context.Deadline != DateTime.MaxValue && context.Deadline <= DateTime.UtcNow + DeadlineSlack;
+
+    private static readonly TimeSpan DeadlineSlack = TimeSpan.FromMilliseconds(200);
 
     public static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads, Imperfection? imperfection = null)
     {
@@ -129,5 +168,5 @@ public sealed class AnalysisFrame(
         return StructuralModel.Create(ImperfectionMapper.Apply(definition, imperfection));
     }
 
-    private static string Truncate(string? s, int max = 64) => s is null ? "" : s.Length <= max ? s : s[..max] + "…";
+    private static string Truncate(string? s, int max = 64) => LogText.Cut(s, max);
 }

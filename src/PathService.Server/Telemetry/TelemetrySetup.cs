@@ -23,6 +23,7 @@ public static class TelemetrySetup
             .WriteTo.Console(new CompactJsonFormatter()));
 
         bool otlp = !string.IsNullOrWhiteSpace(options.OtlpEndpoint);
+        if (otlp) builder.Services.AddSingleton<ExportFailureLog>();
         var otel = builder.Services.AddOpenTelemetry()
             .ConfigureResource(r => r.AddService(options.ServiceName))
             .WithMetrics(m =>
@@ -30,7 +31,12 @@ public static class TelemetrySetup
                 // "System.Runtime": the runtime's own meter (working set, GC heap, thread pool), for the load command and dashboards.
                 m.AddMeter(PathServiceTelemetry.MeterName, "System.Runtime").AddAspNetCoreInstrumentation();
                 if (!string.IsNullOrWhiteSpace(options.PrometheusPath)) m.AddPrometheusExporter();
-                if (otlp) m.AddOtlpExporter(o => o.Endpoint = new Uri(options.OtlpEndpoint));
+                if (otlp)
+                    m.AddOtlpExporter((o, reader) =>
+                    {
+                        o.Endpoint = new Uri(options.OtlpEndpoint);
+                        reader.PeriodicExportingMetricReaderOptions.ExportIntervalMilliseconds = (int)(options.ExportIntervalSeconds * 1000);
+                    });
             })
             .WithTracing(t =>
             {
