@@ -11,7 +11,7 @@ namespace PathService.Server.Tests;
 
 /// <summary>
 /// The JSON side holds the same contract as gRPC: unknown fields are refused (400 naming the field), the request-size
-/// limit applies (413 with RESOURCE_EXHAUSTED in the body), a 429 carries Retry-After, and a client that aborts its
+/// limit applies (429 with RESOURCE_EXHAUSTED in the body, the HTTP mapping of that status everywhere), a 429 carries Retry-After, and a client that aborts its
 /// upload is not logged as a server fault.
 /// </summary>
 [Collection(ServerCollection.Name)]
@@ -82,12 +82,13 @@ public sealed class JsonContractTests : IAsyncLifetime
     }
 
     [Fact]
-    public async Task A_body_above_the_size_limit_gets_413_with_resource_exhausted()
+    public async Task A_body_above_the_size_limit_gets_429_with_resource_exhausted_and_the_quota_subject()
     {
         var request = new CheckModelRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad() };
         request.Model.Name = new string('x', MaxBytes + 10);
         using var response = await PostAsync("/v1/models:check", JsonFormatter.Default.Format(request));
-        Assert.Equal(HttpStatusCode.RequestEntityTooLarge, response.StatusCode);
+        Assert.Equal(HttpStatusCode.TooManyRequests, response.StatusCode);
+        Assert.True(response.Headers.Contains("Retry-After"));
         using var body = JsonDocument.Parse(await response.Content.ReadAsStringAsync());
         Assert.Equal(8, body.RootElement.GetProperty("code").GetInt32()); // RESOURCE_EXHAUSTED, as over gRPC
         Assert.Contains(MaxBytes.ToString(System.Globalization.CultureInfo.InvariantCulture), body.RootElement.GetProperty("message").GetString());
@@ -97,7 +98,7 @@ public sealed class JsonContractTests : IAsyncLifetime
         using var message = new HttpRequestMessage(HttpMethod.Post, "/v1/models:check") { Content = chunked };
         message.Headers.TransferEncodingChunked = true;
         using var second = await _http.SendAsync(message);
-        Assert.Equal(HttpStatusCode.RequestEntityTooLarge, second.StatusCode);
+        Assert.Equal(HttpStatusCode.TooManyRequests, second.StatusCode);
 
         // Just under the limit is served.
         request.Model.Name = new string('x', MaxBytes - 4096);

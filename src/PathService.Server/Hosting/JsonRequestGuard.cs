@@ -12,9 +12,10 @@ namespace PathService.Server.Hosting;
 
 /// <summary>
 /// The JSON side of the contract (google.api.http routes, taken from the descriptors): before JSON transcoding sees a
-/// request it is authenticated (<see cref="CallPolicy"/>), held to <c>Limits:MaxRequestBytes</c> (HTTP 413 with
-/// status RESOURCE_EXHAUSTED in the body: the same refusal a gRPC caller gets, but a code that tells HTTP clients not
-/// to retry the same body) and checked for fields its message type does not have (HTTP 400, INVALID_ARGUMENT, with the
+/// request it is authenticated (<see cref="CallPolicy"/>), held to <c>Limits:MaxRequestBytes</c> (HTTP 429 with
+/// status RESOURCE_EXHAUSTED in the body: the refusal a gRPC caller gets, under the same HTTP mapping the transcoder
+/// uses for every RESOURCE_EXHAUSTED, e.g. a model above the node limit; the QuotaFailure subject request_bytes tells
+/// a client that the same body will be refused again) and checked for fields its message type does not have (HTTP 400, INVALID_ARGUMENT, with the
 /// field path: the transcoder would ignore them, so a misspelt <c>loadFactr</c> would silently mean λ = 1). Every
 /// 429 answered on these routes carries <c>Retry-After</c> (seconds, <c>Limits:RetryAfterSeconds</c> rounded up).
 /// </summary>
@@ -98,7 +99,7 @@ public sealed class JsonRequestGuard(RequestDelegate next, IOptions<PathServiceO
         logger.LogInformation("{Method} refused with ResourceExhausted: {Detail}", method.Name, message);
         // The rest of the body is not read: the connection is closed after the answer.
         context.Response.Headers.Connection = "close";
-        return WriteAsync(context, StatusCodes.Status413PayloadTooLarge, (int)Grpc.Core.StatusCode.ResourceExhausted, message,
+        return WriteAsync(context, StatusCodes.Status429TooManyRequests, (int)Grpc.Core.StatusCode.ResourceExhausted, message,
             new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = "request_bytes", Description = message } } });
     }
 
