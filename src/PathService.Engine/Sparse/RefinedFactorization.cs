@@ -1,0 +1,267 @@
+// RefinedFactorization: a backward-error check on every solve with a pivot-free
+// LDL^T, and fixed-precision iterative refinement when the check fails.
+//
+// Why: the supernodal LDL^T factorises without numerical pivoting (after a
+// fill-reducing ordering), which is backward stable for positive definite
+// tangents but has no such guarantee for indefinite ones, and the engine reads
+// its verdicts (stable/unstable, critical points) from those factors. The check
+// makes every solve prove its own accuracy.
+//
+// Method: after x = K^-1 b from the factor, the residual r = b - K x (one
+// sparse product with the matrix that was factorised) gives the normwise
+// backward error
+//     omega = ||r||_inf / (||K||_inf ||x||_inf + ||b||_inf)
+// (J. L. Rigal and J. Gaches, "On the compatibility of a given solution with
+// the data of a linear system", J. ACM 14, 1967; N. J. Higham, "Accuracy and
+// Stability of Numerical Algorithms", 2nd ed., SIAM 2002, Thm 7.1): x solves
+// exactly a system whose matrix and right-hand side are perturbed by omega
+// relative. When omega exceeds the bound, x += K^-1 r with the factor already
+// in place (fixed-precision iterative refinement: R. D. Skeel, "Iterative
+// refinement implies numerical stability for Gaussian elimination", Math.
+// Comp. 35, 1980; Higham 2002, ch. 12), at most MaxSteps times, keeping the
+// best iterate. Both columns of a two-column solve are checked by one fused
+// pass over the matrix.
+//
+// Bound 1e-12: a backward-stable solve gives omega of a few units of round-off
+// (1.1e-16; measured 1e-17 to 1e-16 on the bench roofs, docs/validation.md), so
+// the bound leaves three to four orders for growth in |L||D||L^T| before it
+// acts, and it is one order below the tiny-pivot ratio 1e-11 at which the
+// factorisation itself reports a pivot as vanishing: a solve it admits is the
+// exact solve of a tangent perturbed far less than anything the pivot
+// diagnosis or the Newton tolerance can see (common practice, no source, for
+// the choice of the margin).
+//
+// Memory: the matrix copy and the work vectors are allocated in the
+// constructor; Factorize and Solve allocate nothing.
+
+namespace PathService.Engine.Sparse;
+
+/// <summary>
+/// Wraps a numeric LDLᵀ factorisation: keeps the matrix it factorised, checks the normwise backward error of every
+/// solve and refines the solution when it exceeds <see cref="BackwardErrorBound"/>. Inertia and pivot diagnosis are
+/// the inner factorisation's.
+/// </summary>
+public sealed class RefinedFactorization : ISymmetricFactorization
+{
+    /// <summary>Default bound on the normwise backward error of a solve (see the file header for the choice).</summary>
+    public const double DefaultBound = 1e-12;
+
+    /// <summary>Refinement steps allowed per right-hand side (fixed-precision refinement settles in one or two, Higham 2002 §12.1).</summary>
+    public const int MaxSteps = 3;
+
+    private readonly ISymmetricFactorization _inner;
+    private readonly SymmetricPattern _pattern;
+    private readonly double[] _matrix;
+    private readonly double[] _b1, _b2, _r1, _r2, _d, _save;
+    private double _matrixNorm = double.NaN;
+
+    /// <param name="inner">The factorisation to check (its pattern is the one the values are aligned with).</param>
+    /// <param name="backwardErrorBound">Refine when the backward error of a solve exceeds this (0 or less: refine always).</param>
+    public RefinedFactorization(ISymmetricFactorization inner, double backwardErrorBound = DefaultBound)
+    {
+        _inner = inner ?? throw new ArgumentNullException(nameof(inner));
+        if (!(backwardErrorBound < 1)) throw new ArgumentOutOfRangeException(nameof(backwardErrorBound), backwardErrorBound, "the bound must be below 1");
+        BackwardErrorBound = backwardErrorBound;
+        _pattern = inner.Symbolic.Pattern;
+        int n = _pattern.Size;
+        _matrix = new double[_pattern.NonZeroCount];
+        _b1 = new double[n]; _b2 = new double[n]; _r1 = new double[n]; _r2 = new double[n]; _d = new double[n]; _save = new double[n];
+    }
+
+    /// <summary>The factorisation being checked.</summary>
+    public ISymmetricFactorization Inner => _inner;
+
+    /// <summary>Backward error above which a solve is refined.</summary>
+    public double BackwardErrorBound { get; }
+
+    /// <summary>Right-hand sides whose solution was checked.</summary>
+    public long CheckedSolves { get; private set; }
+
+    /// <summary>Refinement steps taken in total (each one solve with the factor and one product with the matrix).</summary>
+    public int RefinementSteps { get; private set; }
+
+    /// <summary>Right-hand sides whose backward error stayed above the bound after refinement.</summary>
+    public int UnresolvedSolves { get; private set; }
+
+    /// <summary>Largest backward error of a solve before refinement.</summary>
+    public double LargestBackwardError { get; private set; }
+
+    /// <summary>Largest backward error of a solve as returned (after refinement).</summary>
+    public double LargestFinalBackwardError { get; private set; }
+
+    /// <summary>Backward error of the last right-hand side solved (after refinement; of the second column for Solve2).</summary>
+    public double LastBackwardError { get; private set; }
+
+    public LdlSymbolic Symbolic => _inner.Symbolic;
+    public LdlStatus Status => _inner.Status;
+    public int NegativePivotCount => _inner.NegativePivotCount;
+    public int TinyPivotIndex => _inner.TinyPivotIndex;
+    public double SmallestPivotRatio => _inner.SmallestPivotRatio;
+
+    public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11)
+    {
+        // The copy is what the solves are checked against, whatever the caller does with its array afterwards.
+        values.CopyTo(_matrix);
+        _matrixNorm = double.NaN;
+        return _inner.Factorize(values, tinyPivotRatio);
+    }
+
+    public void Solve(Span<double> rhsInPlace)
+    {
+        if (!Checkable) { _inner.Solve(rhsInPlace); return; }
+        rhsInPlace.CopyTo(_b1);
+        _inner.Solve(rhsInPlace);
+        Check(_b1, rhsInPlace);
+    }
+
+    public void Solve(ReadOnlySpan<double> b, Span<double> x)
+    {
+        if (!Checkable) { _inner.Solve(b, x); return; }
+        b.CopyTo(_b1);
+        _inner.Solve(_b1, x);
+        Check(_b1, x);
+    }
+
+    public void Solve2(Span<double> rhs1InPlace, Span<double> rhs2InPlace)
+    {
+        if (!Checkable) { _inner.Solve2(rhs1InPlace, rhs2InPlace); return; }
+        rhs1InPlace.CopyTo(_b1);
+        rhs2InPlace.CopyTo(_b2);
+        _inner.Solve2(rhs1InPlace, rhs2InPlace);
+        Residual2(_b1, rhs1InPlace, _r1, _b2, rhs2InPlace, _r2);
+        Finish(_b1, rhs1InPlace, _r1);
+        Finish(_b2, rhs2InPlace, _r2);
+    }
+
+    /// <summary>Normwise backward error of x as a solution of K x = b, K the last factorised matrix.</summary>
+    public double BackwardError(ReadOnlySpan<double> b, ReadOnlySpan<double> x)
+    {
+        var r = new double[b.Length];
+        Residual(b, x, r);
+        return Omega(b, x, r);
+    }
+
+    /// <summary>A solve is checked only on a usable factor (a zero pivot leaves the solution meaningless anyway).</summary>
+    private bool Checkable => _inner.Status != LdlStatus.ZeroPivot && _pattern.Size > 0;
+
+    private void Check(double[] b, Span<double> x)
+    {
+        Residual(b, x, _r1);
+        Finish(b, x, _r1);
+    }
+
+    /// <summary>Backward error of x from its residual r; refines while it exceeds the bound.</summary>
+    private void Finish(double[] b, Span<double> x, double[] r)
+    {
+        CheckedSolves++;
+        double omega = Omega(b, x, r);
+        if (!double.IsFinite(omega)) { LastBackwardError = omega; return; } // non-finite solutions are the caller's to reject
+        if (omega > LargestBackwardError) LargestBackwardError = omega;
+        for (int step = 0; step < MaxSteps && omega > BackwardErrorBound; step++)
+        {
+            // x ← x + K⁻¹ r, kept only if it lowers the backward error (refinement cannot help a factor that is too unstable).
+            x.CopyTo(_save);
+            Array.Copy(r, _d, r.Length);
+            _inner.Solve(_d);
+            for (int i = 0; i < x.Length; i++) x[i] += _d[i];
+            RefinementSteps++;
+            Residual(b, x, r);
+            double next = Omega(b, x, r);
+            if (!(next < omega))
+            {
+                _save.AsSpan(0, x.Length).CopyTo(x);
+                break;
+            }
+            omega = next;
+        }
+        if (omega > BackwardErrorBound) UnresolvedSolves++;
+        if (omega > LargestFinalBackwardError) LargestFinalBackwardError = omega;
+        LastBackwardError = omega;
+    }
+
+    private double Omega(ReadOnlySpan<double> b, ReadOnlySpan<double> x, ReadOnlySpan<double> r)
+    {
+        if (double.IsNaN(_matrixNorm)) _matrixNorm = InfinityNorm();
+        double rn = 0, xn = 0, bn = 0;
+        for (int i = 0; i < r.Length; i++)
+        {
+            rn = Math.Max(rn, Math.Abs(r[i]));
+            xn = Math.Max(xn, Math.Abs(x[i]));
+            bn = Math.Max(bn, Math.Abs(b[i]));
+        }
+        if (!double.IsFinite(rn) || !double.IsFinite(xn)) return double.NaN;
+        double den = _matrixNorm * xn + bn;
+        return den > 0 ? rn / den : 0.0; // b = 0 and x = 0: exact
+    }
+
+    /// <summary>‖K‖∞ = max row sum of |K_ij| over the full symmetric matrix.</summary>
+    private double InfinityNorm()
+    {
+        var rows = _d; // scratch
+        Array.Clear(rows);
+        var cp = _pattern.ColumnPointers; var ri = _pattern.RowIndices;
+        for (int j = 0; j < _pattern.Size; j++)
+            for (int p = cp[j]; p < cp[j + 1]; p++)
+            {
+                int i = ri[p];
+                double a = Math.Abs(_matrix[p]);
+                rows[i] += a;
+                if (i != j) rows[j] += a;
+            }
+        double m = 0;
+        for (int i = 0; i < rows.Length; i++) m = Math.Max(m, rows[i]);
+        return m;
+    }
+
+    /// <summary>r = b − K x over the upper compressed-column pattern (each off-diagonal entry used twice).</summary>
+    private unsafe void Residual(ReadOnlySpan<double> b, ReadOnlySpan<double> x, Span<double> r)
+    {
+        b.CopyTo(r);
+        int n = _pattern.Size;
+        fixed (int* cp = _pattern.ColumnPointers, ri = _pattern.RowIndices)
+        fixed (double* a = _matrix, px = x, pr = r)
+        {
+            for (int j = 0; j < n; j++)
+            {
+                double xj = px[j], sj = 0;
+                int end = cp[j + 1] - 1; // the diagonal is the last entry of every column
+                for (int p = cp[j]; p < end; p++)
+                {
+                    int i = ri[p];
+                    pr[i] -= a[p] * xj;
+                    sj += a[p] * px[i];
+                }
+                pr[j] -= sj + a[end] * xj;
+            }
+        }
+    }
+
+    /// <summary>Both residuals in one pass over the matrix (the product is memory-bound).</summary>
+    private unsafe void Residual2(ReadOnlySpan<double> b1, ReadOnlySpan<double> x1, Span<double> r1,
+        ReadOnlySpan<double> b2, ReadOnlySpan<double> x2, Span<double> r2)
+    {
+        b1.CopyTo(r1);
+        b2.CopyTo(r2);
+        int n = _pattern.Size;
+        fixed (int* cp = _pattern.ColumnPointers, ri = _pattern.RowIndices)
+        fixed (double* a = _matrix, px1 = x1, px2 = x2, pr1 = r1, pr2 = r2)
+        {
+            for (int j = 0; j < n; j++)
+            {
+                double xj1 = px1[j], xj2 = px2[j], s1 = 0, s2 = 0;
+                int end = cp[j + 1] - 1;
+                for (int p = cp[j]; p < end; p++)
+                {
+                    int i = ri[p];
+                    double v = a[p];
+                    pr1[i] -= v * xj1;
+                    pr2[i] -= v * xj2;
+                    s1 += v * px1[i];
+                    s2 += v * px2[i];
+                }
+                pr1[j] -= s1 + a[end] * xj1;
+                pr2[j] -= s2 + a[end] * xj2;
+            }
+        }
+    }
+}
