@@ -1,0 +1,128 @@
+using PathService.Engine.Analyses;
+using PathService.Engine.Continuation;
+using PathService.Engine.Elements;
+using PathService.Engine.Model;
+
+namespace PathService.Engine.Tests.Verification;
+
+/// <summary>
+/// A square braced panel with one-sided diagonals and no prestress, against statics worked by hand.
+///
+/// Panel in the x-z plane, side a: base nodes "base-w" (0, 0, 0) and "base-e" (a, 0, 0) pinned; top nodes "top-w"
+/// (0, 0, a) and "top-e" (a, 0, a) held out of plane (y). Bars: posts base-w–top-w and base-e–top-e, beam
+/// top-w–top-e, diagonals "diag-up" base-w–top-e and "diag-down" base-e–top-w. Load H along +x at top-w.
+///
+/// Tension-only diagonals, H &gt; 0: the panel sways to +x, diag-up lengthens and diag-down shortens, so diag-down is
+/// slack and the rest is statically determinate (4 bars for the 4 free displacements). Joint top-w, x: H + N_beam = 0,
+/// so N_beam = −H; z: N_post-w = 0. Joint top-e, x: H − N_up/√2 = 0, so N_up = H√2; z: −N_post-e − N_up/√2 = 0, so
+/// N_post-e = −H. Reversing H makes diag-down the working one, N_down = H√2, with N_post-w = −H and the beam and
+/// post-e unloaded. Compression-only diagonals, H &gt; 0: diag-up (lengthening) disengages; joint top-e gives
+/// N_beam = N_post-e = 0, joint top-w, x: H + N_down/√2 = 0, so N_down = −H√2, and z: −N_post-w − N_down/√2 = 0, so
+/// N_post-w = H. (Method of joints, e.g. S. Timoshenko and D. H. Young, "Engineering Mechanics", 1940, ch. 4, from memory.)
+/// </summary>
+public class OneSidedBracingTests
+{
+    private const double Side = 4.0, E = 2.1e8, Area = 1.0e-3, H = 1.0; // m, kN/m², m², kN: EA/H = 2.1e5
+
+    private static StructuralModel Panel(BarBehaviour diagonals, double load) => StructuralModel.Create(new ModelDefinition
+    {
+        Nodes = [new("base-w", 0, 0, 0), new("base-e", Side, 0, 0), new("top-e", Side, 0, Side), new("top-w", 0, 0, Side)],
+        Bars =
+        [
+            new("post-w", "base-w", "top-w", E, Area),
+            new("post-e", "base-e", "top-e", E, Area),
+            new("beam", "top-w", "top-e", E, Area),
+            new("diag-up", "base-w", "top-e", E, Area) { Behaviour = diagonals },
+            new("diag-down", "base-e", "top-w", E, Area) { Behaviour = diagonals },
+        ],
+        Supports = [.. TestModels.Pin("base-w"), .. TestModels.Pin("base-e"), new("top-w", Axis.Y), new("top-e", Axis.Y)],
+        Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("top-w", load, 0, 0)),
+    });
+
+    /// <summary>Hand statics above: bar forces in the order post-w, post-e, beam, diag-up, diag-down.</summary>
+    private static double[] Expected(BarBehaviour diagonals, double sign)
+    {
+        double r2 = Math.Sqrt(2) * H;
+        if (diagonals == BarBehaviour.TensionOnly)
+            return sign > 0 ? [0, -H, -H, r2, 0] : [-H, 0, 0, 0, r2];
+        return sign > 0 ? [H, 0, 0, 0, -r2] : [0, H, H, -r2, 0];
+    }
+
+    private static string SlackDiagonal(BarBehaviour diagonals, double sign) =>
+        (diagonals == BarBehaviour.TensionOnly) == (sign > 0) ? "diag-down" : "diag-up";
+
+    [Theory]
+    [InlineData(BarBehaviour.TensionOnly, 1.0)]
+    [InlineData(BarBehaviour.TensionOnly, -1.0)]
+    [InlineData(BarBehaviour.CompressionOnly, 1.0)]
+    [InlineData(BarBehaviour.CompressionOnly, -1.0)]
+    public void Linear_analysis_puts_the_load_in_the_working_diagonal_and_leaves_the_other_slack(BarBehaviour diagonals, double sign)
+    {
+        var r = LinearStaticAnalysis.Run(Panel(diagonals, sign * H));
+        var expected = Expected(diagonals, sign);
+        // The linear solution of a determinate truss is exact up to round-off (measured 2.4e-15 H).
+        for (int b = 0; b < expected.Length; b++) Assert.Equal(expected[b], r.BarForces[b], 3e-14);
+        Assert.Equal([SlackDiagonal(diagonals, sign)], r.SlackBars);
+        // All active first (one diagonal works against the load), then the offending diagonal slack: two solves.
+        Assert.Equal(2, r.ActiveSetIterations);
+    }
+
+    [Theory]
+    [InlineData(BarBehaviour.TensionOnly, 1.0)]
+    [InlineData(BarBehaviour.TensionOnly, -1.0)]
+    [InlineData(BarBehaviour.CompressionOnly, 1.0)]
+    [InlineData(BarBehaviour.CompressionOnly, -1.0)]
+    public void Nonlinear_trace_agrees_with_the_hand_statics_at_a_small_load(BarBehaviour diagonals, double sign)
+    {
+        var events = new PathTracer(Panel(diagonals, sign * H), new SolverControls
+        {
+            Method = ContinuationMethod.LoadControl, InitialLoadIncrement = 1.0, TargetLoadFactor = 1.0, ResidualTolerance = 1e-12,
+            FullStateEvery = 1, DetectCriticalPoints = false,
+        }).Trace().ToList();
+        var point = events.OfType<PathPoint>().Single(p => p.Index == 1);
+        Assert.Equal(1.0, point.LoadFactor, 1e-12);
+        var expected = Expected(diagonals, sign);
+        // Differences are the geometric nonlinearity, of order the rotation H/EA ≈ 5e-6 (measured 9.5e-6 H).
+        for (int b = 0; b < expected.Length; b++) Assert.Equal(expected[b], point.State!.BarForces[b], 1e-4);
+        Assert.Equal(0.0, point.State!.BarForces[SlackDiagonal(diagonals, sign) == "diag-up" ? 3 : 4]);
+        Assert.Equal(0, point.NegativePivots);
+        var slack = Assert.Single(events.OfType<MemberEvent>(), e => e.Kind == MemberEventKind.Slack);
+        Assert.Equal(SlackDiagonal(diagonals, sign), slack.BarId);
+    }
+
+    /// <summary>The rule itself: active on the closed side including S = 0, slack only strictly on the open side.</summary>
+    [Fact]
+    public void One_sided_bar_is_active_at_zero_stress_and_slack_only_beyond_it()
+    {
+        var atRest = BarMaterial.Respond(BarBehaviour.TensionOnly, E, 0, 0, 0.0, 0);
+        Assert.Equal((0.0, E, BarRegime.Elastic), (atRest.Stress, atRest.TangentModulus, atRest.Regime));
+        var shortened = BarMaterial.Respond(BarBehaviour.TensionOnly, E, 0, 0, -1e-12, 0);
+        Assert.Equal((0.0, 0.0, BarRegime.Slack), (shortened.Stress, shortened.TangentModulus, shortened.Regime));
+        var strut = BarMaterial.Respond(BarBehaviour.CompressionOnly, E, 0, 0, 0.0, 0);
+        Assert.Equal((E, BarRegime.Elastic), (strut.TangentModulus, strut.Regime));
+        Assert.Equal(BarRegime.Slack, BarMaterial.Respond(BarBehaviour.CompressionOnly, E, 0, 0, 1e-12, 0).Regime);
+        // With prestress the rule is on the stress: a cable pretensioned to S0 stays taut down to ε = −S0/E.
+        Assert.Equal(BarRegime.Elastic, BarMaterial.Respond(BarBehaviour.TensionOnly, E, 1e3, 0, -0.99e3 / E, 0).Regime);
+        Assert.Equal(BarRegime.Slack, BarMaterial.Respond(BarBehaviour.TensionOnly, E, 1e3, 0, -1.01e3 / E, 0).Regime);
+    }
+
+    /// <summary>
+    /// The unbraced-but-for-cables panel is not a mechanism at rest: the trace starts (stable, no negative pivot) and the
+    /// linear analysis solves. With both diagonals removed the same panel is refused as a mechanism, which shows that
+    /// it is the taut diagonals that make it stable.
+    /// </summary>
+    [Fact]
+    public void Panel_braced_by_cables_without_prestress_is_not_a_mechanism_but_without_them_it_is()
+    {
+        var start = new PathTracer(Panel(BarBehaviour.TensionOnly, H), new SolverControls { MaxPoints = 1 }).Trace().OfType<PathPoint>().First();
+        Assert.Equal(0, start.NegativePivots);
+        var unbraced = new ModelDefinition
+        {
+            Nodes = [new("base-w", 0, 0, 0), new("base-e", Side, 0, 0), new("top-e", Side, 0, Side), new("top-w", 0, 0, Side)],
+            Bars = [new("post-w", "base-w", "top-w", E, Area), new("post-e", "base-e", "top-e", E, Area), new("beam", "top-w", "top-e", E, Area)],
+            Supports = [.. TestModels.Pin("base-w"), .. TestModels.Pin("base-e"), new("top-w", Axis.Y), new("top-e", Axis.Y)],
+            Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("top-w", H, 0, 0)),
+        };
+        Assert.Throws<MechanismException>(() => LinearStaticAnalysis.Run(StructuralModel.Create(unbraced)));
+    }
+}
