@@ -27,17 +27,18 @@ public sealed record LinearStaticResult(double LoadFactor, double[] Displacement
 /// tension-only bars in compression and the compression-only bars in tension, makes active again a slack bar whose
 /// linear stress (its gap) returns to the active side, and repeats until the set is unchanged (the primal-dual active
 /// set strategy, M. Hintermüller, K. Ito and K. Kunisch, "The primal-dual active set strategy as a semismooth Newton
-/// method", SIAM J. Optim. 13, 2002). A repeated set or more than <see cref="ActiveSetCap"/> solves gives an
-/// <see cref="ActiveSetCyclingException"/> naming the bars that switch.
+/// method", SIAM J. Optim. 13, 2002). If a set of slack bars would repeat, the iteration goes on from there switching
+/// one bar at a time (the least-index rule); a repeat in that phase or more than <see cref="ActiveSetCap"/> solves gives
+/// an <see cref="ActiveSetCyclingException"/> naming the bars that switch.
 /// </remarks>
 public static class LinearStaticAnalysis
 {
     /// <summary>
-    /// Most active-set solves for k one-sided bars: min(2k + 10, 100). Each solve switches at least one bar and the
-    /// iteration usually settles in two or three (many bars switch at once); 2k lets every bar be switched off and on
-    /// once, and 100 bounds the cost, since each solve is a factorisation (common practice, no source).
+    /// Most active-set solves for k one-sided bars: min(2k + 10, 200). Each solve switches at least one bar and the
+    /// iteration usually settles in two to six (many bars switch at once); 2k lets every bar be switched off and on
+    /// once in the one-at-a-time phase, and 200 bounds the cost, since each solve is a factorisation (common practice, no source).
     /// </summary>
-    public static int ActiveSetCap(int oneSidedBars) => Math.Min(2 * oneSidedBars + 10, 100);
+    public static int ActiveSetCap(int oneSidedBars) => Math.Min(2 * oneSidedBars + 10, 200);
 
     /// <summary>Relative band around S = 0 inside which a one-sided bar keeps its state (round-off must not switch it).</summary>
     private const double SwitchBand = 1e-10;
@@ -48,6 +49,7 @@ public static class LinearStaticAnalysis
     public static LinearStaticResult Run(StructuralModel model, double loadFactor = 1.0, bool includeConstant = true,
         double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken cancellationToken = default)
     {
+        cancellationToken.ThrowIfCancellationRequested();
         var sys = new Continuation.EquilibriumSystem(model, tinyPivotRatio, ordering);
         var u0 = new double[3 * model.NodeCount];
         var oneSided = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehaviour[b] != Elements.BarBehaviour.Elastic).ToArray();
@@ -90,6 +92,8 @@ public static class LinearStaticAnalysis
         var seen = new Dictionary<ulong, int> { [0UL] = 1 };
         var flips = new List<int[]>();
         ulong hash = 0;
+        bool leastIndex = false;
+        int firstLeastIndex = 0;
 
         var active = new bool[model.BarCount];
         Array.Fill(active, true);
@@ -144,18 +148,29 @@ public static class LinearStaticAnalysis
                     SlackBars = oneSided.Where(b => !active[b]).Select(b => model.BarIds[b]).ToArray(),
                     ActiveSetIterations = it,
                 };
-            foreach (int q in switched)
+            // After a repeat, one bar at a time: the violating bar of least index (Murty's least-index rule, which ends in
+            // finitely many solves when the complementarity problem has a P-matrix, as without prestress; K. G. Murty,
+            // "Note on a Bard-type scheme for solving the complementarity problem", Opsearch 11, 1974, from memory).
+            if (leastIndex) switched.RemoveRange(1, switched.Count - 1);
+            ulong next = hash;
+            foreach (int q in switched) next ^= keys[q];
+            if (seen.ContainsKey(next) && !leastIndex)
             {
-                active[oneSided[q]] = !active[oneSided[q]];
-                hash ^= keys[q];
+                leastIndex = true;
+                seen.Clear();
+                seen[hash] = it;
+                firstLeastIndex = it;
+                switched.RemoveRange(1, switched.Count - 1);
+                next = hash ^ keys[switched[0]];
             }
             flips.Add(switched.Select(q => oneSided[q]).ToArray());
-            if (seen.TryGetValue(hash, out int first))
+            if (seen.TryGetValue(next, out int first))
             {
                 var cycling = flips.Skip(first - 1).SelectMany(f => f).Distinct().Order().ToArray();
                 throw new ActiveSetCyclingException(cycling.Select(b => model.BarIds[b]).ToArray(), it,
-                    $"the linear analysis cannot settle which one-sided bars are slack: after {it} solves the set of slack bars repeats the one of solve {first}, " +
-                    $"with bars {Names(model, cycling)} switching between taut and slack. Follow the load with the nonlinear trace, which resolves them step by step.");
+                    $"the linear analysis cannot settle which one-sided bars are slack: after {it} solves (one bar at a time from solve {firstLeastIndex}) " +
+                    $"the set of slack bars would repeat the one of solve {first}, with bars {Names(model, cycling)} switching between taut and slack. " +
+                    "Follow the load with the nonlinear trace, which resolves them step by step.");
             }
             if (it >= cap)
             {
@@ -164,6 +179,8 @@ public static class LinearStaticAnalysis
                     $"the linear analysis did not settle which one-sided bars are slack within {cap} solves (the cap for {k} one-sided bars); " +
                     $"bars {Names(model, last)} were still switching between taut and slack. Follow the load with the nonlinear trace, which resolves them step by step.");
             }
+            foreach (int q in switched) active[oneSided[q]] = !active[oneSided[q]];
+            hash = next;
             seen[hash] = it + 1;
         }
     }

@@ -125,4 +125,40 @@ public class OneSidedBracingTests
         };
         Assert.Throws<MechanismException>(() => LinearStaticAnalysis.Run(StructuralModel.Create(unbraced)));
     }
+
+    /// <summary>
+    /// A slider on x held by a ground spring k_s = 1 and a compression-only strut (EA/L = 100) pretensioned to
+    /// T0 = S0·A = 10, so slack at rest, pushed with P = −0.5. In the linear model (initial-stress stiffness g = T0/L = 10
+    /// while the strut is active) the slack strut's gap force T0 + (EA/L)P/k_s = −40 says "engage", and the engaged
+    /// strut's force (T0(k_s + g) + (EA/L)P)/(k_s + EA/L + g) = 60/111 &gt; 0 says "disengage" (our derivation): no set of
+    /// slack bars is consistent, and the analysis says so by name instead of looping.
+    /// </summary>
+    [Fact]
+    public void Linear_analysis_reports_a_strut_that_switches_forever_by_name()
+    {
+        var def = new ModelDefinition
+        {
+            Nodes = [new("anchor", -1, 0, 0), new("slider", 0, 0, 0)],
+            Bars = [new("strut", "anchor", "slider", 1e4, 1e-2, 1e3) { Behaviour = BarBehaviour.CompressionOnly }],
+            GroundSprings = [new GroundSpringDefinition("guide", "slider", Axis.X, 1.0)],
+            Supports = [.. TestModels.Pin("anchor"), new("slider", Axis.Y), new("slider", Axis.Z)],
+            Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("slider", -0.5, 0, 0)),
+        };
+        var e = Assert.Throws<ActiveSetCyclingException>(() => LinearStaticAnalysis.Run(StructuralModel.Create(def)));
+        Assert.Equal(["strut"], e.BarIds);
+        Assert.Contains("'strut'", e.Message);
+        Assert.True(e.Iterations <= LinearStaticAnalysis.ActiveSetCap(1));
+        // With the push 2.5 times larger the strut engages for good: (110 − 125)/111 < 0 and the gap −115 agree.
+        var engaged = LinearStaticAnalysis.Run(StructuralModel.Create(def with { Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("slider", -1.25, 0, 0)) }));
+        Assert.Empty(engaged.SlackBars);
+        Assert.Equal(-15.0 / 111.0, engaged.BarForces[0], 1e-15);
+    }
+
+    [Fact]
+    public void Linear_analysis_stops_when_cancelled()
+    {
+        using var cts = new CancellationTokenSource();
+        cts.Cancel();
+        Assert.ThrowsAny<OperationCanceledException>(() => LinearStaticAnalysis.Run(Panel(BarBehaviour.TensionOnly, H), cancellationToken: cts.Token));
+    }
 }
