@@ -34,6 +34,8 @@
 // Memory: the matrix copy and the work vectors are allocated in the
 // constructor; Factorize and Solve allocate nothing.
 
+using System.Runtime.CompilerServices;
+
 namespace PathService.Engine.Sparse;
 
 /// <summary>
@@ -179,6 +181,8 @@ public sealed class RefinedFactorization : ISymmetricFactorization
         LastBackwardError = omega;
     }
 
+    // Optimised at first call: a trace is short, and these loops run a few hundred times.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private double Omega(ReadOnlySpan<double> b, ReadOnlySpan<double> x, ReadOnlySpan<double> r)
     {
         if (double.IsNaN(_matrixNorm)) _matrixNorm = InfinityNorm();
@@ -195,6 +199,8 @@ public sealed class RefinedFactorization : ISymmetricFactorization
     }
 
     /// <summary>‖K‖∞ = max row sum of |K_ij| over the full symmetric matrix.</summary>
+    // Optimised at first call: a trace is short, and these loops run a few hundred times.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private double InfinityNorm()
     {
         var rows = _d; // scratch
@@ -214,6 +220,8 @@ public sealed class RefinedFactorization : ISymmetricFactorization
     }
 
     /// <summary>r = b − K x over the upper compressed-column pattern (each off-diagonal entry used twice).</summary>
+    // Optimised at first call: a trace is short, and these loops run a few hundred times.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private unsafe void Residual(ReadOnlySpan<double> b, ReadOnlySpan<double> x, Span<double> r)
     {
         b.CopyTo(r);
@@ -237,6 +245,8 @@ public sealed class RefinedFactorization : ISymmetricFactorization
     }
 
     /// <summary>Both residuals in one pass over the matrix (the product is memory-bound).</summary>
+    // Optimised at first call: a trace is short, and these loops run a few hundred times.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private unsafe void Residual2(ReadOnlySpan<double> b1, ReadOnlySpan<double> x1, Span<double> r1,
         ReadOnlySpan<double> b2, ReadOnlySpan<double> x2, Span<double> r2)
     {
