@@ -113,6 +113,17 @@ public static class TraceCommand
         var ratios = Measure.IterationRatios(() => asm.Tangent(u, values), () => asm.InternalForce(u, force),
             () => factor.Factorize(values), () => factor.Solve2(b1, b2), Math.Max(repeats, 21));
         Console.WriteLine($"interleaved iterations ({ratios.Length}): (tangent + internal force + Solve2) / factorisation median {100 * ratios[ratios.Length / 2]:F0} %, range {100 * ratios[0]:F0}–{100 * ratios[^1]:F0} %");
+        var copyTarget = new double[values.Length];
+        var solveRatios = Measure.PairedRatios(() => factor.Solve2(b1, b2), () => refined.Solve2(b1, b2), 101);
+        Console.WriteLine($"interleaved Solve2 (101): checked / plain median {100 * solveRatios[50]:F0} %");
+        // A whole iteration with the plain factor against one with the checked factor (copy of the values at the
+        // factorisation, backward error of both solutions), interleaved.
+        var checkedRatios = Measure.PairedRatios(
+            () => { asm.Tangent(u, values); asm.InternalForce(u, force); factor.Factorize(values); factor.Solve2(b1, b2); },
+            () => { asm.Tangent(u, values); asm.InternalForce(u, force); refined.Factorize(values); refined.Solve2(b1, b2); },
+            Math.Max(repeats, 21));
+        Console.WriteLine($"interleaved iterations ({checkedRatios.Length}): checked / plain median {100 * checkedRatios[checkedRatios.Length / 2]:F1} %, " +
+            $"quartiles {100 * checkedRatios[checkedRatios.Length / 4]:F1}–{100 * checkedRatios[3 * checkedRatios.Length / 4]:F1} %");
         Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}, first load increment {increment}");
         Console.WriteLine($"trace: {s.Points} points ({converged} converged after the start), {s.Steps} steps, {cuts} cuts, {critical} critical points, stop: {s.Reason}");
         Console.WriteLine($"  solves refined by the backward-error check: {s.Refinements} refinement steps");
