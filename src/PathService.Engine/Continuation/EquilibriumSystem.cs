@@ -30,12 +30,13 @@ internal sealed class EquilibriumSystem
     private readonly double[] _force;
     private readonly int[] _fullOf;
 
-    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic)
+    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic,
+        double backwardErrorBound = RefinedFactorization.DefaultBound)
     {
         Model = model;
         TinyPivotRatio = tinyPivotRatio;
         Assembler = new StructureAssembler(model);
-        Refined = new RefinedFactorization(new SupernodalLdlFactorization(OrderingChoice.Analyze(model, Assembler.Pattern, ordering)));
+        Refined = new RefinedFactorization(new SupernodalLdlFactorization(OrderingChoice.Analyze(model, Assembler.Pattern, ordering)), backwardErrorBound);
         Values = new double[Assembler.Pattern.NonZeroCount];
         FreeCount = model.Dofs.FreeCount;
         _fullOf = model.Dofs.FullOf;
