@@ -20,10 +20,12 @@
 // refinement implies numerical stability for Gaussian elimination", Math.
 // Comp. 35, 1980; Higham 2002, ch. 12), at most MaxSteps times, keeping the
 // best iterate. Both columns of a two-column solve are checked by one fused
-// pass over the matrix.
+// pass over the matrix. ||K||_inf (a second pass) is computed only when omega
+// estimated with max |K_ii| <= ||K||_inf in its place exceeds the bound.
 //
 // Bound 1e-12: a backward-stable solve gives omega of a few units of round-off
-// (1.1e-16; measured 1e-17 to 1e-16 on the bench roofs, docs/validation.md), so
+// (1.1e-16; measured up to 2e-16 on the bench roofs and 4e-15 on two demos, 5e-13
+// only deep in the post-buckled range of the guyed mast, docs/validation.md), so
 // the bound leaves three to four orders for growth in |L||D||L^T| before it
 // acts, and it is one order below the tiny-pivot ratio 1e-11 at which the
 // factorisation itself reports a pivot as vanishing: a solve it admits is the
