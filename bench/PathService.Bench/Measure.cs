@@ -42,5 +42,26 @@ public static class Measure
         return ratios;
     }
 
+    /// <summary>
+    /// Times a and b alternately (after one warm-up of each) and returns the sorted ratios time(b)/time(a) of each pair,
+    /// so that both sides of every ratio ran under the same machine conditions.
+    /// </summary>
+    public static double[] PairedRatios(Action a, Action b, int repeats)
+    {
+        a(); b();
+        var ratios = new double[repeats];
+        for (int r = 0; r < repeats; r++)
+        {
+            long t0 = Stopwatch.GetTimestamp();
+            a();
+            long t1 = Stopwatch.GetTimestamp();
+            b();
+            long t2 = Stopwatch.GetTimestamp();
+            ratios[r] = (double)(t2 - t1) / (t1 - t0);
+        }
+        Array.Sort(ratios);
+        return ratios;
+    }
+
     public static string Ms(double seconds) => $"{seconds * 1000,9:F2} ms";
 }

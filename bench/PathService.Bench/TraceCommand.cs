@@ -90,6 +90,11 @@ public static class TraceCommand
         model.Dofs.Gather(model.ReferenceLoad, b1);
         double tSolve = Measure.MedianSeconds(() => factor.Solve(b1), repeats);
         double tSolve2 = Measure.MedianSeconds(() => factor.Solve2(b1, b2), repeats);
+        // The same two-column solve through the backward-error check the engine puts on every solve.
+        var refined = new RefinedFactorization(new SupernodalLdlFactorization(symbolic));
+        refined.Factorize(values);
+        double tSolve2Checked = Measure.MedianSeconds(() => { model.Dofs.Gather(model.ReferenceLoad, b1); b2.AsSpan().Fill(1.0); refined.Solve2(b1, b2); }, repeats);
+        double tSolve2Plain = Measure.MedianSeconds(() => { model.Dofs.Gather(model.ReferenceLoad, b1); b2.AsSpan().Fill(1.0); factor.Solve2(b1, b2); }, repeats);
         double flops = symbolic.FactorFlopCount;
         long nnzFull = 2L * asm.Pattern.NonZeroCount - asm.Pattern.Size;
 
@@ -99,6 +104,8 @@ public static class TraceCommand
         Console.WriteLine($"ordering (AMD) {Measure.Ms(symbolic.OrderingTime.TotalSeconds)}, symbolic {Measure.Ms(symbolic.SymbolicTime.TotalSeconds)}, supernodal analysis {Measure.Ms(supernodalSetup)}, assembler set-up {Measure.Ms(assemblerSetup)}");
         Console.WriteLine($"numeric factorisation {Measure.Ms(tFactor)}  ({flops:E3} flops, {flops / tFactor / 1e9:F2} GFlop/s, {factor.Threads} threads, {factor.TaskCount} subtree tasks)");
         Console.WriteLine($"assembly: tangent {Measure.Ms(tTangent)}, internal force {Measure.Ms(tForce)}; solve 1 rhs {Measure.Ms(tSolve)}, 2 rhs {Measure.Ms(tSolve2)} ({factor.SolveTaskCount} subtree tasks holding {100 * factor.SolveParallelShare:F0} % of L)");
+        Console.WriteLine($"checked Solve2 (backward error + refinement when needed) {Measure.Ms(tSolve2Checked)} against {Measure.Ms(tSolve2Plain)} unchecked; " +
+            $"backward error at u = 0 {refined.LargestBackwardError:E1}, refinement steps {refined.RefinementSteps}");
         double rest2 = tTangent + tForce + 2 * tSolve, rest1 = tTangent + tForce + tSolve2;
         Console.WriteLine($"per iteration besides the factorisation: {Measure.Ms(rest2)} = {100 * rest2 / tFactor:F0} % of it with two solves, {Measure.Ms(rest1)} = {100 * rest1 / tFactor:F0} % with Solve2");
         // The same parts interleaved, one iteration after another, so that each ratio compares parts timed under the
@@ -106,8 +113,20 @@ public static class TraceCommand
         var ratios = Measure.IterationRatios(() => asm.Tangent(u, values), () => asm.InternalForce(u, force),
             () => factor.Factorize(values), () => factor.Solve2(b1, b2), Math.Max(repeats, 21));
         Console.WriteLine($"interleaved iterations ({ratios.Length}): (tangent + internal force + Solve2) / factorisation median {100 * ratios[ratios.Length / 2]:F0} %, range {100 * ratios[0]:F0}–{100 * ratios[^1]:F0} %");
+        var copyTarget = new double[values.Length];
+        var solveRatios = Measure.PairedRatios(() => factor.Solve2(b1, b2), () => refined.Solve2(b1, b2), 101);
+        Console.WriteLine($"interleaved Solve2 (101): checked / plain median {100 * solveRatios[50]:F0} %");
+        // A whole iteration with the plain factor against one with the checked factor (copy of the values at the
+        // factorisation, backward error of both solutions), interleaved.
+        var checkedRatios = Measure.PairedRatios(
+            () => { asm.Tangent(u, values); asm.InternalForce(u, force); factor.Factorize(values); factor.Solve2(b1, b2); },
+            () => { asm.Tangent(u, values); asm.InternalForce(u, force); refined.Factorize(values); refined.Solve2(b1, b2); },
+            Math.Max(repeats, 21));
+        Console.WriteLine($"interleaved iterations ({checkedRatios.Length}): checked / plain median {100 * checkedRatios[checkedRatios.Length / 2]:F1} %, " +
+            $"quartiles {100 * checkedRatios[checkedRatios.Length / 4]:F1}–{100 * checkedRatios[3 * checkedRatios.Length / 4]:F1} %");
         Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}, first load increment {increment}");
         Console.WriteLine($"trace: {s.Points} points ({converged} converged after the start), {s.Steps} steps, {cuts} cuts, {critical} critical points, stop: {s.Reason}");
+        Console.WriteLine($"  solves refined by the backward-error check: {s.Refinements} refinement steps");
         Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
         Console.WriteLine($"  factorisation time {s.FactorizationTime.TotalSeconds:F2} s ({s.FactorizationTime.TotalSeconds / Math.Max(1, s.Factorizations) * 1000:F1} ms each), rest {traceWall - s.FactorizationTime.TotalSeconds:F2} s");
         Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s");

@@ -42,6 +42,25 @@ public sealed class InputFaultTests(ServerFixture server)
         Assert.Contains("geometric stiffness", ex.Status.Detail);
     }
 
+    /// <summary>The slider on a spring with a pretensioned compression-only strut (engine OneSidedBracingTests): no consistent slack set.</summary>
+    [Fact]
+    public async Task A_linear_analysis_whose_slack_set_cannot_settle_is_a_failed_precondition_naming_the_strut()
+    {
+        var model = new StructureModel { Name = "strut that cannot settle" };
+        model.Nodes.Add(new Node { Id = "anchor", X = -1 });
+        model.Nodes.Add(new Node { Id = "slider" });
+        model.Bars.Add(new Bar { Id = "strut", StartNode = "anchor", EndNode = "slider", ElasticModulus = 1e4, Area = 1e-2, InitialStress = 1e3, Behaviour = BarBehaviour.CompressionOnly });
+        model.GroundSprings.Add(new GroundSpring { Id = "guide", Node = "slider", Direction = Direction.X, Stiffness = 1 });
+        foreach (var d in new[] { Direction.X, Direction.Y, Direction.Z }) model.Supports.Add(new Support { Node = "anchor", Direction = d });
+        model.Supports.Add(new Support { Node = "slider", Direction = Direction.Y });
+        model.Supports.Add(new Support { Node = "slider", Direction = Direction.Z });
+        var request = new AnalyzeLinearRequest { Model = model, LoadCase = new LoadCase { Reference = { new NodalLoad { Node = "slider", Fx = -0.5 } } } };
+        var ex = await Assert.ThrowsAsync<RpcException>(() => server.Client.AnalyzeLinearAsync(request).ResponseAsync);
+        Assert.Equal(StatusCode.FailedPrecondition, ex.StatusCode);
+        Assert.Equal("ACTIVE_SET_CYCLING", ex.GetRpcStatus()!.GetDetail<ErrorInfo>()!.Reason);
+        Assert.Contains("'strut'", ex.Status.Detail);
+    }
+
     [Fact]
     public async Task An_unknown_direction_number_is_quoted_as_sent()
     {

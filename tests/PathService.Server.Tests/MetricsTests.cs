@@ -31,6 +31,7 @@ public class MetricsTests(ServerFixture server)
         Assert.Equal(1, ServerFixture.Total(metrics, "pathservice.analyses.started"));
         Assert.Equal(1, ServerFixture.Total(metrics, "pathservice.analyses.completed"));
         Assert.Equal(1, ServerFixture.Total(metrics, "pathservice.factorization.time"));
+        Assert.Equal(summary.Refinements, ServerFixture.Total(metrics, "pathservice.solve_refinements"));
         // Every cut carries its reason as a tag.
         Assert.Equal(summary.Cuts, ServerFixture.Total(metrics, "pathservice.step_cuts", p => HasTag(p, "reason")));
     }

@@ -89,6 +89,40 @@ public class PlatformTests(ServerFixture server)
         Assert.Equal("m", reply.Units.Length);
     }
 
+    /// <summary>
+    /// Square panel (side 4 m) with pinned base corners and two tension-only diagonals without prestress, H = 10 kN at
+    /// the top of the windward post: the lengthening diagonal carries H√2 and the other is slack and reported as such
+    /// (hand statics in the engine's OneSidedBracingTests and docs/theory.md §12).
+    /// </summary>
+    [Fact]
+    public async Task AnalyzeLinear_reports_the_slack_diagonal_of_a_cable_braced_panel()
+    {
+        var m = new StructureModel { Name = "braced panel", Units = new UnitLabels { Force = "kN", Length = "m" } };
+        m.Nodes.Add(new Node { Id = "base-w" });
+        m.Nodes.Add(new Node { Id = "base-e", X = 4 });
+        m.Nodes.Add(new Node { Id = "top-e", X = 4, Z = 4 });
+        m.Nodes.Add(new Node { Id = "top-w", Z = 4 });
+        void Bar(string id, string a, string b, BarBehaviour behaviour = BarBehaviour.Unspecified) =>
+            m.Bars.Add(new Bar { Id = id, StartNode = a, EndNode = b, ElasticModulus = DemoStructures.E, Area = DemoStructures.Area, Behaviour = behaviour });
+        Bar("post-w", "base-w", "top-w");
+        Bar("post-e", "base-e", "top-e");
+        Bar("beam", "top-w", "top-e");
+        Bar("diag-up", "base-w", "top-e", BarBehaviour.TensionOnly);
+        Bar("diag-down", "base-e", "top-w", BarBehaviour.TensionOnly);
+        foreach (var n in new[] { "base-w", "base-e" })
+            foreach (var d in new[] { Direction.X, Direction.Y, Direction.Z })
+                m.Supports.Add(new Support { Node = n, Direction = d });
+        m.Supports.Add(new Support { Node = "top-w", Direction = Direction.Y });
+        m.Supports.Add(new Support { Node = "top-e", Direction = Direction.Y });
+        var reply = await server.Client.AnalyzeLinearAsync(new AnalyzeLinearRequest
+        {
+            Model = m, LoadCase = new LoadCase { Reference = { new NodalLoad { Node = "top-w", Fx = 10 } } },
+        });
+        Assert.Equal(["diag-down"], reply.SlackBars);
+        Assert.Equal(10 * Math.Sqrt(2), reply.State.Bars[3].AxialForce, 3e-13); // engine: 2.4e-15 H
+        Assert.Equal(0.0, reply.State.Bars[4].AxialForce);
+    }
+
     [Fact]
     public async Task FindBucklingModes_returns_modes_with_node_ids()
     {

@@ -53,6 +53,7 @@ internal sealed class InProcessBackend : IAnalysisBackend
                 State = new ResultMapper(model, []).ToState(r.Displacements, r.BarForces, null, r.Reactions),
             };
             response.Warnings.AddRange(model.Warnings.Select(ResultMapper.ToFinding));
+            response.SlackBars.AddRange(r.SlackBars);
             return Task.FromResult(response);
         }
         catch (MechanismException ex) { throw Mechanism(ex); }

@@ -53,6 +53,7 @@ internal static class ConsoleReport
         Row("step cuts", s.Cuts.ToString(CultureInfo.InvariantCulture));
         Row("largest λ reached", s.MaxLoadFactor.ToString("G8", CultureInfo.InvariantCulture));
         Row("factorisations", $"{s.Factorizations} ({s.FactorizationTime?.ToTimeSpan().TotalMilliseconds:F1} ms)");
+        Row("solve refinements", s.Refinements.ToString(CultureInfo.InvariantCulture));
         Row("wall time", $"{s.WallTime?.ToTimeSpan().TotalMilliseconds:F1} ms");
         if (rec.Criticals.Count > 0)
         {

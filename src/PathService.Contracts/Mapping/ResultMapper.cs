@@ -77,6 +77,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         Points = s.Points, Steps = s.Steps, Iterations = s.Iterations, Cuts = s.Cuts, Factorizations = s.Factorizations,
         FactorizationTime = Duration.FromTimeSpan(s.FactorizationTime), WallTime = Duration.FromTimeSpan(s.WallTime),
         CriticalPoints = s.CriticalPoints.Count, Units = ModelMapper.ToUnits(model.Units),
+        Refinements = s.Refinements,
     };
 
     public static Proto.MemberEvent ToMemberEvent(MemberEvent e) => new()

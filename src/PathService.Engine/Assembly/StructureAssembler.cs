@@ -191,6 +191,23 @@ public sealed class StructureAssembler
         next.CopyTo(PlasticStrain, 0);
     }
 
+    /// <summary>
+    /// Adds factor × the bar's 6×6 matrix [k, −k; −k, k] into <paramref name="values"/> (aligned with
+    /// <see cref="Pattern"/>), k given by its 6 entries as from <see cref="BarKinematics.TangentBlock"/>: used to switch
+    /// one bar's stiffness on or off without reassembling.
+    /// </summary>
+    public void AddBarMatrix(int bar, ReadOnlySpan<double> k6, double factor, Span<double> values)
+    {
+        for (int t = 0; t < 21; t++)
+        {
+            int slot = _barSlots[21 * bar + t];
+            if (slot < 0) continue;
+            var (r, c) = Upper6[t];
+            double v = factor * k6[BarKinematics.BlockEntry(r % 3, c % 3)];
+            values[slot] += (r < 3) == (c < 3) ? v : -v;
+        }
+    }
+
     /// <summary>Symmetric matrix-vector product y = K x for a values array on <see cref="Pattern"/> (free DOFs).</summary>
     public void Multiply(ReadOnlySpan<double> values, ReadOnlySpan<double> x, Span<double> y)
     {

@@ -7,14 +7,17 @@ namespace PathService.Engine.Continuation;
 
 /// <summary>
 /// The discrete equilibrium problem r(u, λ) = f_int(u) − F_const − λ F_ref = 0 on the free DOFs, with its
-/// tangent, one reusable LDLᵀ factorisation (supernodal) and the work vectors of an iteration (allocated once).
+/// tangent, one reusable LDLᵀ factorisation (supernodal, every solve checked by its backward error and refined when
+/// needed: <see cref="RefinedFactorization"/>) and the work vectors of an iteration (allocated once).
 /// Full vectors hold 3 entries per node; free vectors one per equation of the <see cref="DofMap"/>.
 /// </summary>
 internal sealed class EquilibriumSystem
 {
     public StructuralModel Model { get; }
     public StructureAssembler Assembler { get; }
-    public ISymmetricFactorization Factor { get; }
+    public ISymmetricFactorization Factor => Refined;
+    /// <summary>The factorisation with its backward-error check; its counters feed the trace summary.</summary>
+    public RefinedFactorization Refined { get; }
     public double[] Values { get; }
     public int FreeCount { get; }
     public double[] ConstantFree { get; }
@@ -27,12 +30,13 @@ internal sealed class EquilibriumSystem
     private readonly double[] _force;
     private readonly int[] _fullOf;
 
-    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic)
+    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic,
+        double backwardErrorBound = RefinedFactorization.DefaultBound)
     {
         Model = model;
         TinyPivotRatio = tinyPivotRatio;
         Assembler = new StructureAssembler(model);
-        Factor = new SupernodalLdlFactorization(OrderingChoice.Analyze(model, Assembler.Pattern, ordering));
+        Refined = new RefinedFactorization(new SupernodalLdlFactorization(OrderingChoice.Analyze(model, Assembler.Pattern, ordering)), backwardErrorBound);
         Values = new double[Assembler.Pattern.NonZeroCount];
         FreeCount = model.Dofs.FreeCount;
         _fullOf = model.Dofs.FullOf;

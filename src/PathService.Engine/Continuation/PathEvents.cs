@@ -92,4 +92,10 @@ public sealed record PathSummary(
     /// <summary>Whether the trace ended by one of the caller's own stopping rules (not by failure or cancellation).</summary>
     public bool Completed => Reason is StopReason.TargetLoadFactorReached or StopReason.TargetDisplacementReached
         or StopReason.PointLimitReached or StopReason.CriticalPointReached;
+
+    /// <summary>
+    /// Iterative-refinement steps taken because a solve with the tangent's LDLᵀ factor had a normwise backward error
+    /// above 1e-12 (<see cref="Sparse.RefinedFactorization"/>); 0 in a well-conditioned trace.
+    /// </summary>
+    public int Refinements { get; init; }
 }

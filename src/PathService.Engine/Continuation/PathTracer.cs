@@ -28,6 +28,9 @@ public sealed class PathTracer
         _ordering = ordering;
     }
 
+    /// <summary>Backward error above which solves are refined (tests lower it to make refinement act).</summary>
+    internal double BackwardErrorBound { get; init; } = RefinedFactorization.DefaultBound;
+
     public IEnumerable<PathEvent> Trace(CancellationToken cancellationToken = default)
     {
         var findings = _c.Validate(_model);
@@ -37,7 +40,7 @@ public sealed class PathTracer
 
     private IEnumerable<PathEvent> Run(CancellationToken ct)
     {
-        var sys = new EquilibriumSystem(_model, _c.TinyPivotRatio, _ordering);
+        var sys = new EquilibriumSystem(_model, _c.TinyPivotRatio, _ordering, BackwardErrorBound);
         var s = new TraceSession(_model, _c, sys, ct);
         int n = sys.FreeCount;
         var u = (double[])_model.PrescribedDisplacement.Clone();

@@ -26,7 +26,7 @@ internal sealed class TraceSession(StructuralModel model, SolverControls control
     public double FinalLoadFactor { get; set; }
 
     public PathSummary Summary(StopReason reason, string message) => new(reason, message, MaxLoadFactor, FinalLoadFactor, Points,
-        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Clock.Elapsed, Criticals) { Branches = Branches };
+        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Clock.Elapsed, Criticals) { Branches = Branches, Refinements = Sys.Refined.RefinementSteps };
 
     /// <summary>A stop that ends the whole trace, whichever branch is being followed (null: go on).</summary>
     public (StopReason Reason, string Message)? GlobalStop()

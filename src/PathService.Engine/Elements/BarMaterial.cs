@@ -5,9 +5,12 @@ public enum BarBehaviour
 {
     /// <summary>Tension and compression alike.</summary>
     Elastic,
-    /// <summary>A cable or tie: no compression; it goes slack (zero force and stiffness) when its stress would fall below zero.</summary>
+    /// <summary>
+    /// A cable or tie: taut (full axial stiffness) while its stress S ≥ 0, so a brace without prestress stiffens the
+    /// structure at rest; slack (zero force and stiffness) only once S &lt; 0, i.e. once it has shortened.
+    /// </summary>
     TensionOnly,
-    /// <summary>A strut that disengages in tension (e.g. a contact or a slender brace modelled as compression-only).</summary>
+    /// <summary>A strut that disengages in tension (e.g. a contact or a slender brace): active while S ≤ 0, disengaged once S &gt; 0.</summary>
     CompressionOnly,
 }
 
@@ -19,7 +22,10 @@ public enum BarRegime { Elastic, Yielding, Slack }
 /// Green-Lagrange strain ε): linear elastic with optional initial stress S0; elastic-perfectly-plastic with the same
 /// yield stress σy in tension and compression, by the return map of J. C. Simo and T. J. R. Hughes, "Computational
 /// Inelasticity", Springer 1998, §1.2 (from memory) (its consistent tangent modulus is 0 while yielding); and tension-only or
-/// compression-only behaviour applied on top. Stating plasticity in (S, ε) is adequate for the moderate strains of
+/// compression-only behaviour applied on top. A one-sided bar is active on the closed side: tension-only while S ≥ 0,
+/// compression-only while S ≤ 0 (at S = 0 the one-sided derivative toward the active side is the tangent, so a brace
+/// without prestress stiffens the structure at rest and goes slack only once it has strictly shortened; docs/theory.md
+/// §"One-sided members"). Stating plasticity in (S, ε) is adequate for the moderate strains of
 /// metal lattices; it is not a finite-strain plasticity model.
 /// </summary>
 public static class BarMaterial
@@ -40,8 +46,15 @@ public static class BarMaterial
             et = 0;
             regime = BarRegime.Yielding;
         }
-        if ((behaviour == BarBehaviour.TensionOnly && s <= 0) || (behaviour == BarBehaviour.CompressionOnly && s >= 0))
+        if (IsSlack(behaviour, s))
             return (0, 0, committedPlasticStrain, BarRegime.Slack);
         return (s, et, ep, regime);
     }
+
+    /// <summary>
+    /// The one-sided rule shared by the trace and the linear analysis: slack only on the open side, strictly (a
+    /// tension-only bar at S &lt; 0, a compression-only bar at S &gt; 0); at S = 0 the bar is active.
+    /// </summary>
+    public static bool IsSlack(BarBehaviour behaviour, double stress) =>
+        (behaviour == BarBehaviour.TensionOnly && stress < 0) || (behaviour == BarBehaviour.CompressionOnly && stress > 0);
 }

@@ -88,6 +88,7 @@ public sealed class StructuralPathGrpcService(
                 Units = ModelMapper.ToUnits(model.Units),
             };
             response.Warnings.AddRange(model.Warnings.Select(ResultMapper.ToFinding));
+            response.SlackBars.AddRange(result.SlackBars);
             FiniteGuard.ThrowIfNonFinite(response);
             return Task.FromResult("Solved");
             };

@@ -130,6 +130,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
             case PathSummary s:
                 if (s.Reason == StopReason.Diverged) telemetry.Divergences.Add(1);
                 telemetry.FactorizationTime.Record(s.FactorizationTime.TotalSeconds);
+                telemetry.SolveRefinements.Add(s.Refinements);
                 activity?.SetTag("pathservice.stop_reason", s.Reason.ToString());
                 activity?.SetTag("pathservice.points", s.Points);
                 break;

@@ -47,6 +47,7 @@ public sealed class PathServiceTelemetry
     public Histogram<double> FactorizationTime { get; }
     public Counter<long> AuthenticationFailures { get; }
     public Histogram<double> AnalysisDuration { get; }
+    public Counter<long> SolveRefinements { get; }
 
     /// <summary>Bucket bounds of <see cref="AnalysisDuration"/>, the last one the server's maximum trace time.</summary>
     public IReadOnlyList<double> AnalysisDurationBounds { get; }
@@ -72,6 +73,8 @@ public sealed class PathServiceTelemetry
         AnalysisDurationBounds = [.. DurationBounds.Where(b => b < max), max];
         AnalysisDuration = meter.CreateHistogram<double>("pathservice.analysis.duration", "s", "Wall time of an analysis call from acceptance to its end (tags rpc, status).",
             advice: new InstrumentAdvice<double> { HistogramBucketBoundaries = AnalysisDurationBounds });
+        SolveRefinements = meter.CreateCounter<long>("pathservice.solve_refinements", "{step}",
+            "Iterative-refinement steps taken because a solve with the factorised tangent had a backward error above 1e-12.");
         CreateZeroSeries();
     }
 
@@ -81,6 +84,7 @@ public sealed class PathServiceTelemetry
         AnalysesActive.Add(0);
         Steps.Add(0);
         Divergences.Add(0);
+        SolveRefinements.Add(0);
         foreach (var rpc in AnalysisRpcs)
         {
             var rpcTag = new KeyValuePair<string, object?>("rpc", rpc);
