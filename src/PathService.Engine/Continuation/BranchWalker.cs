@@ -10,6 +10,7 @@ namespace PathService.Engine.Continuation;
 internal sealed class BranchWalker(TraceSession s)
 {
     private readonly double[] _dU = new double[s.Sys.FreeCount];
+    private readonly double[] _newPredictor = new double[s.Sys.FreeCount];
     private readonly double[] _previous = new double[3 * s.Model.NodeCount];
     private readonly double[] _midpoint = new double[3 * s.Model.NodeCount];
     private double[]? _modeGuess;
@@ -77,6 +78,9 @@ internal sealed class BranchWalker(TraceSession s)
             int attempt = 0;
             double lambda = b.Lambda, dLam = 0;
             CorrectorOutcome outcome;
+            List<CriticalPoint>? found;
+            int pointIterations = 0, newInertia = b.Inertia;
+            double residual = 0;
             while (true)
             {
                 // Predictor along the tangent of the last converged point: Δu = Δλ · K⁻¹F_ref.
@@ -121,6 +125,27 @@ internal sealed class BranchWalker(TraceSession s)
                     reason = CutReason.SingularTangent;
                     detail = "the converged point lies on a critical point to rounding (exactly singular tangent); the step is shortened so that the critical point is bracketed and located";
                 }
+                found = null;
+                if (outcome == CorrectorOutcome.Converged)
+                {
+                    // One factorisation at the new point serves its inertia and the next predictor (kept aside until the
+                    // step is accepted), then the location of any critical point the step passed.
+                    pointIterations = s.Corrector.Iterations;
+                    residual = s.Corrector.ResidualNorm;
+                    newInertia = sys.Factor.NegativePivotCount;
+                    sys.Factor.Solve(sys.ReferenceFree, _newPredictor);
+                    if (newInertia != b.Inertia && c.DetectCriticalPoints)
+                    {
+                        found = LocateCritical(_previous, previousLambda, b.Inertia, b.U, lambda, newInertia, b.LastPointIndex, s.Points);
+                        bool canShorten = attempt < c.MaxCutsPerStep && Math.Abs(0.5 * increment) >= _minIncrement;
+                        if (canShorten && found.Any(f => f.Folded))
+                        {
+                            outcome = CorrectorOutcome.Cut;
+                            reason = CutReason.SharpTurn;
+                            detail = "the path turns back within the step too sharply for its critical point to be located on the step's chord; the step is shortened";
+                        }
+                    }
+                }
                 if (outcome != CorrectorOutcome.Cut) break;
                 s.Cuts++;
                 attempt++;
@@ -145,35 +170,26 @@ internal sealed class BranchWalker(TraceSession s)
                 yield break;
             }
 
-            // Converged: one factorisation at the new point serves its inertia and the next predictor.
-            int pointIterations = s.Corrector.Iterations;
-            double residual = s.Corrector.ResidualNorm;
             b.Lambda = lambda;
             b.LastLoadStep = dLam;
             Array.Copy(_dU, b.LastStep, n);
             b.HasPreviousStep = true;
             int inertiaBefore = b.Inertia;
-            // The factorisation in place is the tangent at the converged point (checked non-singular above).
-            b.Inertia = sys.Factor.NegativePivotCount;
-            sys.Factor.Solve(sys.ReferenceFree, b.Predictor);
-            _factorOfBranch = sys.Factorizations;
+            b.Inertia = newInertia;
+            Array.Copy(_newPredictor, b.Predictor, n);
             b.ArcLength += Math.Sqrt(EquilibriumSystem.Dot(_dU, _dU) + s.PsiSquared * dLam * dLam * sys.ReferenceNormSquared);
             b.Increment = increment;
             s.MaxLoadFactor = Math.Max(s.MaxLoadFactor, lambda);
             s.FinalLoadFactor = lambda;
-            bool crossed = b.Inertia != inertiaBefore && c.DetectCriticalPoints;
+            bool crossed = found is { Count: > 0 };
             bool atEnd = s.StopRuleMet(b.U, lambda) || s.Points + 1 >= c.MaxPoints;
             bool full = (c.FullStateEvery > 0 && s.Points % c.FullStateEvery == 0) || (atEnd && c.FullStateAtEnd);
-            int before = b.LastPointIndex;
             yield return MakePoint(b, pointIterations, residual, increment, full);
             if (_turns.Check(b, _dU) is { } turns) foreach (var t in turns) yield return t;
 
             if (crossed)
             {
-                // Location uses the factorisation (tagged: the branch's own is then refactorised only when needed).
-                var found = LocateCritical(_previous, previousLambda, inertiaBefore, b, before);
-                _factorOfBranch = -1;
-                foreach (var f in found)
+                foreach (var f in found!)
                 {
                     var cp = f with { Sequence = s.Criticals.Count + 1, Branch = b.Id };
                     s.Criticals.Add(cp);
@@ -211,6 +227,9 @@ internal sealed class BranchWalker(TraceSession s)
 
             // Adaptive increment: scale by (desired / used iterations)^½, at most halving or doubling (Crisfield 1981).
             double factor = Math.Sqrt((double)c.DesiredIterations / Math.Max(1, pointIterations));
+            // A step that had to be cut does not let the next one grow (common practice, no source): otherwise a fast
+            // corrector at the shortened length (modified Newton with a fresh tangent) doubles it back into another cut.
+            if (attempt > 0) factor = Math.Min(factor, 1.0);
             double next = b.Increment * Math.Clamp(factor, 0.5, 2.0);
             b.Increment = Math.CopySign(Math.Clamp(Math.Abs(next), _minIncrement, _maxIncrement), next);
         }
@@ -323,13 +342,14 @@ internal sealed class BranchWalker(TraceSession s)
     /// Only when the turn cannot be judged (a chord without displacement) does the load alignment decide, against
     /// <see cref="SolverControls.BifurcationThreshold"/>.
     /// </summary>
-    private List<CriticalPoint> LocateCritical(double[] ua, double la, int na, BranchState b, int before)
+    private List<CriticalPoint> LocateCritical(double[] ua, double la, int na, double[] ub, double lb, int nb, int before, int after)
     {
         var c = s.Controls;
         var sys = s.Sys;
         var locator = new CriticalPointLocator(sys, s.Corrector, c);
         // The factorisation in place is the tangent at b (factorised at the converged point).
-        var found = locator.Locate(ua, la, na, b.U, b.Lambda, b.Inertia, _modeGuess, s.Ct, factorAtB: true);
+        var found = locator.Locate(ua, la, na, ub, lb, nb, _modeGuess, s.Ct, factorAtB: true);
+        _factorOfBranch = -1;
         var list = new List<CriticalPoint>(found.Count);
         foreach (var r in found)
         {
@@ -342,13 +362,14 @@ internal sealed class BranchWalker(TraceSession s)
                 : r.LoadTurns is { } turns ? (turns ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation)
                 : alignment >= c.BifurcationThreshold ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation;
             bool keepState = c.FullStateAtCriticalPoints || c.SwitchBranches;
-            list.Add(new CriticalPoint(0, kind, r.LoadFactor, la, b.Lambda, before, b.LastPointIndex, r.NegativeBefore, r.NegativeAfter, r.Eigenvalue, alignment,
+            list.Add(new CriticalPoint(0, kind, r.LoadFactor, la, lb, before, after, r.NegativeBefore, r.NegativeAfter, r.Eigenvalue, alignment,
                 s.Monitored.Select(d => r.Displacement[d]).ToArray(), FullMode(primary), r.Located, r.Tolerance,
                 keepState ? sys.Snapshot(r.Displacement, r.LoadFactor) : null)
             {
                 Multiplicity = multiplicity,
                 AdditionalModes = r.ModesFree.Skip(1).Select(FullMode).ToArray(),
                 LocationNote = r.Note,
+                Folded = r.Folded,
             });
         }
         return list;

@@ -31,6 +31,8 @@ public enum CutReason
     SingularTangent,
     /// <summary>Load control converged on a distant branch (the structure snapped through): rejected so that the path is not skipped.</summary>
     PathJump,
+    /// <summary>The path turned back within the step too sharply for a critical point in it to be located on the step's chord; retried shorter.</summary>
+    SharpTurn,
 }
 
 /// <summary>A step that failed to converge and was retried with a smaller increment.</summary>
@@ -69,6 +71,9 @@ public sealed record CriticalPoint(
 
     /// <summary>Why the location did not meet the tolerance (empty when <see cref="Located"/>).</summary>
     public string LocationNote { get; init; } = "";
+
+    /// <summary>Engine-internal: the step's chord could not order the states around this point (the walker then shortens the step).</summary>
+    internal bool Folded { get; init; }
 }
 
 /// <summary>
