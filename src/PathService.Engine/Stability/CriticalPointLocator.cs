@@ -50,7 +50,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     }
 
     private double[] _d = [];
-    private double _dl, _w, _dNorm;
+    private double _dl, _w, _dNorm, _residualScale = 1.0;
     private int _trials;
     private State? _factored; // the state the factorisation in place belongs to (null: none of ours)
 
@@ -75,6 +75,12 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             : FactorAndDescribe(1, (double[])ub.Clone(), lambdaB, nb, modeGuess, EndTolerance);
         var a = FactorAndDescribe(0, (double[])ua.Clone(), lambdaA, na, b.Mode, EndTolerance);
         double muScale = Math.Abs(a.Mu) + Math.Abs(b.Mu);
+        // Where λ turns in the step (a limit point), a residual r of the trial states moves λ_cr by ~ φ·r / φ·F_ref: for a
+        // local mode on a large model (small load alignment α) that is 1/α times the residual's share of the load.
+        // Solve the trials that much tighter (within what rounding allows).
+        _residualScale = 1.0;
+        if (a.Slope != 0 && b.Slope != 0 && a.Slope != b.Slope)
+            _residualScale = Math.Clamp(Alignment(b.Mode), 1e-4, 1.0);
         var results = new List<Result>();
         Resolve(a, b, muScale, results, ct);
         return MergeCoincident(results);
@@ -227,10 +233,25 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         }
         // λ turns back across the bracket (a limit point) when dλ/dt changes sign between its ends.
         bool? turns = lo.Slope != 0 && hi.Slope != 0 ? lo.Slope != hi.Slope : null;
-        if (Environment.GetEnvironmentVariable("I11DBG") == "1") Console.WriteLine($"    dbg lo t={lo.T:G6} λ={lo.Lambda:G10} n={lo.Count} mu={lo.Mu:G3} s={lo.Slope} | hi t={hi.T:G6} λ={hi.Lambda:G10} n={hi.Count} mu={hi.Mu:G3} s={hi.Slope} best t={best.T:G8} trials={_trials}");
+        if (turns == true && !exact)
+        {
+            // At a limit point the residual r of the located state shifts λ_cr by about φ·r / φ·F_ref: part of the error.
+            var r = new double[sys.FreeCount];
+            sys.Residual(best.U, best.Lambda, r);
+            double shift = Math.Abs(EquilibriumSystem.Dot(best.Mode, r)) / Math.Max(Math.Abs(EquilibriumSystem.Dot(best.Mode, sys.ReferenceFree)), 1e-300);
+            relative += shift / Math.Max(1.0, Math.Abs(best.Lambda));
+            if (located && relative > tol)
+            {
+                located = false;
+                note = $"the residual of the located state limits λ_cr to a relative {relative:G3} (asked {tol:G3}); tighten residual_tolerance";
+            }
+        }
         results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
             { Folded = folded });
     }
+
+    private double Alignment(double[] mode) =>
+        Math.Abs(EquilibriumSystem.Dot(mode, sys.ReferenceFree)) / Math.Max(1e-300, Math.Sqrt(EquilibriumSystem.Dot(mode, mode) * sys.ReferenceNormSquared));
 
     /// <summary>
     /// On a path that is monotone in t, ‖u_hi − u_lo‖ ≈ (t_hi − t_lo)‖d‖ up to the path's curvature. A distance many
@@ -337,7 +358,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     private bool TrySolveAt(double t, State lo, State hi, double[] u, out double lambda, CancellationToken ct)
     {
         var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: _d, NormalLoad: _dl, LoadWeight: _w);
-        double tolerance = Math.Min(controls.ResidualTolerance, 1e-10);
+        double tolerance = Math.Max(Math.Min(controls.ResidualTolerance, 1e-10) * _residualScale, 1e-14);
         var dU = new double[sys.FreeCount];
         // Modified Newton first: the factorisation in place is the tangent at the last trial (or a bracket end), a state
         // close to this one, so a few solves usually replace several factorisations. Full Newton from the same predictor
