@@ -233,13 +233,16 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         }
         // λ turns back across the bracket (a limit point) when dλ/dt changes sign between its ends.
         bool? turns = lo.Slope != 0 && hi.Slope != 0 ? lo.Slope != hi.Slope : null;
-        if (turns == true && !exact)
+        if (!exact)
         {
-            // At a limit point the residual r of the located state shifts λ_cr by about φ·r / φ·F_ref: part of the error.
+            // The residual r of the located state is part of the error: at a limit point it shifts λ_cr by about
+            // φ·r / φ·F_ref; elsewhere (λ monotone, φ·F_ref ≈ 0) by about ‖r‖ / ‖F_ref‖.
             var r = new double[sys.FreeCount];
-            sys.Residual(best.U, best.Lambda, r);
-            double shift = Math.Abs(EquilibriumSystem.Dot(best.Mode, r)) / Math.Max(Math.Abs(EquilibriumSystem.Dot(best.Mode, sys.ReferenceFree)), 1e-300);
-            relative += shift / Math.Max(1.0, Math.Abs(best.Lambda));
+            double rn = sys.Residual(best.U, best.Lambda, r);
+            double shift = turns == true
+                ? Math.Abs(EquilibriumSystem.Dot(best.Mode, r)) / Math.Max(Math.Abs(EquilibriumSystem.Dot(best.Mode, sys.ReferenceFree)), 1e-300)
+                : rn / Math.Sqrt(sys.ReferenceNormSquared);
+            if (double.IsFinite(shift)) relative += shift / Math.Max(1.0, Math.Abs(best.Lambda));
             if (located && relative > tol)
             {
                 located = false;
