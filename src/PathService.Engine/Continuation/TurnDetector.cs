@@ -32,6 +32,7 @@ internal sealed class TurnDetector(TraceSession s)
     public List<DisplacementTurn>? Check(BranchState b, double[] stepFree)
     {
         if (s.Monitored.Length == 0) return null;
+        // The refinement below reads _last[^2].U and _last[^1].U; Add reuses the oldest buffer only after they are done with.
         double scale = 0;
         foreach (double v in stepFree) scale = Math.Max(scale, Math.Abs(v));
         if (_last.Count == 0) { Add(b); return null; }
@@ -63,8 +64,12 @@ internal sealed class TurnDetector(TraceSession s)
 
     private void Add(BranchState b)
     {
-        _last.Add((b.LastPointIndex, b.ArcLength, b.Lambda, s.Monitored.Select(d => b.U[d]).ToArray(), (double[])b.U.Clone()));
-        if (_last.Count > 2) _last.RemoveAt(0);
+        // Full states of the two latest points, in two reused buffers: no allocation per point once both exist.
+        double[] u;
+        if (_last.Count == 2) { u = _last[0].U; _last.RemoveAt(0); }
+        else u = new double[b.U.Length];
+        Array.Copy(b.U, u, u.Length);
+        _last.Add((b.LastPointIndex, b.ArcLength, b.Lambda, s.Monitored.Select(d => b.U[d]).ToArray(), u));
     }
 
     /// <summary>
