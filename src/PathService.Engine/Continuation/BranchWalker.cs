@@ -227,9 +227,11 @@ internal sealed class BranchWalker(TraceSession s)
 
             // Adaptive increment: scale by (desired / used iterations)^½, at most halving or doubling (Crisfield 1981).
             double factor = Math.Sqrt((double)c.DesiredIterations / Math.Max(1, pointIterations));
-            // A step that had to be cut does not let the next one grow (common practice, no source): otherwise a fast
-            // corrector at the shortened length (modified Newton with a fresh tangent) doubles it back into another cut.
-            if (attempt > 0) factor = Math.Min(factor, 1.0);
+            // Modified Newton: a step that had to be cut does not let the next one grow (common practice, no source). Its
+            // retry iterates with a fresh tangent at the predicted state, so it converges in few iterations, and the rule
+            // above would double the increment straight back into another cut (89 instead of 33 cuts on the demo dome
+            // with 3 iterations allowed).
+            if (attempt > 0 && c.ModifiedNewton) factor = Math.Min(factor, 1.0);
             double next = b.Increment * Math.Clamp(factor, 0.5, 2.0);
             b.Increment = Math.CopySign(Math.Clamp(Math.Abs(next), _minIncrement, _maxIncrement), next);
         }

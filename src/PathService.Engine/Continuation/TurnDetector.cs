@@ -7,12 +7,16 @@ namespace PathService.Engine.Continuation;
 /// v(s) = v₀ + a(s − s₀) + b(s − s₀)(s − s₁), v'(s*) = 0. It is then refined on the path itself: equilibrium states
 /// on hyperplanes normal to the chord of the half-step that holds s* (Riks' constraint, as for critical points), and
 /// successive parabolic interpolation of v over the chord fraction (Brent 1973, "Algorithms for Minimization without
-/// Derivatives", ch. 5 (from memory)) until the extreme value settles.
+/// Derivatives", ch. 5 (from memory)) until the extreme value settles. The solves reuse the factorisation in place
+/// (modified Newton), so a turn usually costs no factorisation; full Newton when that does not converge.
 /// </summary>
 internal sealed class TurnDetector(TraceSession s)
 {
     /// <summary>Parabolic refinement steps at most (each one equilibrium solve on a hyperplane).</summary>
     private const int RefineSteps = 6;
+
+    /// <summary>Modified Newton iterations per refinement solve (the tangent of the new point is kept).</summary>
+    private const int ModifiedIterations = 40;
     /// <summary>Increments smaller than this fraction of the step's largest displacement increment are round-off, not motion.</summary>
     private const double Significant = 1e-9;
 
@@ -98,8 +102,18 @@ internal sealed class TurnDetector(TraceSession s)
             for (int i = 0; i < u.Length; i++) u[i] = ua[i] + t * (ub[i] - ua[i]);
             for (int e = 0; e < n; e++) dU[e] = t * d[e];
             double lambda = la + t * (lb - la), dLam = lambda - la;
-            if (s.Corrector.Correct(u, ref lambda, dU, ref dLam, c, s.Controls.MaxIterations, tolerance, s.Ct) != CorrectorOutcome.Converged) return lastValue is null ? null : Best();
-            s.Iterations += s.Corrector.Iterations;
+            // Modified Newton with the tangent in place (the latest, a nearby state's): solves only, no factorisation;
+            // full Newton from the same prediction when that does not converge (e.g. across a limit point).
+            var outcome = s.Corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedIterations, tolerance, s.Ct, keepFactor: true);
+            if (outcome == CorrectorOutcome.Cut)
+            {
+                for (int i = 0; i < u.Length; i++) u[i] = ua[i] + t * (ub[i] - ua[i]);
+                for (int e = 0; e < n; e++) dU[e] = t * d[e];
+                lambda = la + t * (lb - la);
+                dLam = lambda - la;
+                outcome = s.Corrector.Correct(u, ref lambda, dU, ref dLam, c, s.Controls.MaxIterations, tolerance, s.Ct);
+            }
+            if (outcome != CorrectorOutcome.Converged) return lastValue is null ? null : Best();
             samples.Add((t, u[dof], lambda));
             // Parabola through the three samples with the most extreme values (they bracket the turn).
             var three = Extreme();
