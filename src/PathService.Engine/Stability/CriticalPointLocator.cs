@@ -321,8 +321,9 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         }
         var s = new State(t, u, lambda, sys.Factor.NegativePivotCount, 0, modeGuess, 0);
         _factored = s;
-        // μ is only needed to a small fraction of its values at the bracket ends to steer regula falsi and model its root.
-        (s.Mu, s.Mode) = NearNullMode.Compute(sys, modeGuess, absoluteTolerance: 1e-12 * muScale);
+        // μ is needed to 10⁻⁶ of itself (it steers regula falsi and models its root) and, near the root, to 10⁻¹² of its
+        // values at the step ends: more would only cost inverse-iteration solves.
+        (s.Mu, s.Mode) = NearNullMode.Compute(sys, modeGuess, tolerance: 1e-6, absoluteTolerance: 1e-12 * muScale);
         s.Slope = SlopeSign();
         return s;
     }
@@ -367,12 +368,16 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         // close to this one, so a few solves usually replace several factorisations. Full Newton from the same predictor
         // when that does not converge (the critical mode's stiffness may change sign between the two states).
         Predict(t, lo, hi, u, dU, out lambda, out double dLam);
+        double firstResidual = sys.Residual(u, lambda, new double[sys.FreeCount]);
         if (_factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot)
         {
             var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
             if (outcome == CorrectorOutcome.Converged) return true;
             if (outcome == CorrectorOutcome.Cancelled) return false;
-            Predict(t, lo, hi, u, dU, out lambda, out dLam);
+            // Modified Newton that ran out of iterations while still converging leaves a better start than the
+            // prediction; after divergence (or a non-finite state) start again from the prediction.
+            bool progressed = corrector.Reason == CutReason.MaxIterations && double.IsFinite(corrector.ResidualNorm) && corrector.ResidualNorm < firstResidual;
+            if (!progressed) Predict(t, lo, hi, u, dU, out lambda, out dLam);
         }
         _factored = null;
         var full = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, tolerance, ct);
