@@ -50,6 +50,8 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     }
 
     private double[] _d = [];
+    // Work vectors of one Locate call (free DOFs), reused by every trial: the slope solve and residuals, and the increment.
+    private double[] _work = [], _dU = [];
     private double _dl, _w, _dNorm, _residualScale = 1.0;
     private int _trials;
     private State? _factored; // the state the factorisation in place belongs to (null: none of ours)
@@ -61,6 +63,8 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         int n = sys.FreeCount;
         var fullOf = sys.Model.Dofs.FullOf;
         _d = new double[n];
+        _work = new double[n];
+        _dU = new double[n];
         for (int e = 0; e < n; e++) _d[e] = ub[fullOf[e]] - ua[fullOf[e]];
         _dl = lambdaB - lambdaA;
         // Hold the displacement projection on the chord, (u − u_a)·d = t‖d‖²: within one converged step the path is
@@ -237,7 +241,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         {
             // The residual r of the located state is part of the error: at a limit point it shifts λ_cr by about
             // φ·r / φ·F_ref; elsewhere (λ monotone, φ·F_ref ≈ 0) by about ‖r‖ / ‖F_ref‖.
-            var r = new double[sys.FreeCount];
+            var r = _work;
             double rn = sys.Residual(best.U, best.Lambda, r);
             double shift = turns == true
                 ? Math.Abs(EquilibriumSystem.Dot(best.Mode, r)) / Math.Max(Math.Abs(EquilibriumSystem.Dot(best.Mode, sys.ReferenceFree)), 1e-300)
@@ -353,7 +357,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     private int SlopeSign()
     {
         if (_w != 0) return 0;
-        var v = new double[sys.FreeCount];
+        var v = _work;
         sys.Factor.Solve(sys.ReferenceFree, v);
         double dot = EquilibriumSystem.Dot(v, _d);
         return double.IsFinite(dot) ? Math.Sign(dot) : 0;
@@ -363,12 +367,12 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     {
         var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: _d, NormalLoad: _dl, LoadWeight: _w);
         double tolerance = Math.Max(Math.Min(controls.ResidualTolerance, 1e-10) * _residualScale, 1e-14);
-        var dU = new double[sys.FreeCount];
+        var dU = _dU;
         // Modified Newton first: the factorisation in place is the tangent at the last trial (or a bracket end), a state
         // close to this one, so a few solves usually replace several factorisations. Full Newton from the same predictor
         // when that does not converge (the critical mode's stiffness may change sign between the two states).
         Predict(t, lo, hi, u, dU, out lambda, out double dLam);
-        double firstResidual = sys.Residual(u, lambda, new double[sys.FreeCount]);
+        double firstResidual = sys.Residual(u, lambda, _work);
         if (_factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot)
         {
             var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
