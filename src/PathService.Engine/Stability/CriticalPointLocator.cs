@@ -215,10 +215,10 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         // Located is the promise: the estimated λ error meets the asked tolerance (a trial stopped for another reason may still meet it).
         if (!located && !folded && double.IsFinite(estimate) && estimate <= tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; note = ""; }
         if (!located) note += $" (asked {tol:G3}, estimated {relative:G3})";
-        if (!double.IsFinite(estimate))
-        {
-            relative = Math.Abs(hi.Lambda - lo.Lambda) / Math.Max(1.0, Math.Abs(best.Lambda));
-        }
+        // Without a finite estimate, or when the chord could not order the states (the model's trials lie on different
+        // crossings of the path), the bracket's λ span is the honest figure.
+        if (!double.IsFinite(estimate) || folded)
+            relative = Math.Max(double.IsFinite(estimate) ? relative : 0, Math.Abs(hi.Lambda - lo.Lambda) / Math.Max(1.0, Math.Abs(best.Lambda)));
 
         int k = Math.Abs(hi.Count - lo.Count);
         double[][] modes = [best.Mode];
