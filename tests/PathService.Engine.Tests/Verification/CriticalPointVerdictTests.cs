@@ -151,6 +151,29 @@ public class CriticalPointVerdictTests
     }
 
     [Fact]
+    public void A_point_that_cannot_be_located_says_so_with_its_reason_and_an_honest_error()
+    {
+        // Roof m = 10 with long steps: the step over the first limit point turns too sharply for its chord. With no cut
+        // allowed the step cannot be shortened, so the point is reported unlocated, with the reason and the bracket's
+        // λ span as its error; with cuts allowed the same point is located (see the roof test above).
+        var def = SpaceTrussRoof.Create(10);
+        var controls = new SolverControls { InitialLoadIncrement = 0.5, MaxPoints = 60 };
+        var strict = Trace(def, controls with { MaxCutsPerStep = 0 });
+        var missed = strict.OfType<CriticalPoint>().First();
+        Assert.False(missed.Located);
+        Assert.Contains("turns too sharply", missed.LocationNote);
+        Assert.True(missed.Tolerance > controls.CriticalPointTolerance, $"estimate {missed.Tolerance}");
+        InertiaAccounting.AssertAccounted(strict);
+        var normal = Trace(def, controls);
+        Assert.Contains(normal.OfType<StepCut>(), c => c.Reason == CutReason.SharpTurn);
+        var found = normal.OfType<CriticalPoint>().First();
+        Assert.True(found.Located, found.LocationNote);
+        Assert.Equal(CriticalPointKind.LimitPoint, found.Kind);
+        Assert.True(Math.Abs(missed.LoadFactor - found.LoadFactor) <= missed.Tolerance * Math.Max(1, Math.Abs(found.LoadFactor)),
+            $"unlocated λ {missed.LoadFactor:R} is not within its stated error {missed.Tolerance:E2} of {found.LoadFactor:R}");
+    }
+
+    [Fact]
     public void First_point_of_a_secondary_branch_carries_its_full_state_when_every_point_does()
     {
         var events = Trace(TestModels.SpringHeldPost(L, EA, K, PRef), new SolverControls
