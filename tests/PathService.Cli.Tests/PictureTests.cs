@@ -43,8 +43,14 @@ public class PictureTests
         {
             var (code, stdout, stderr) = await Pathtrace.RunAsync(dir, "demo", "--out", dir, "--quiet");
             Assert.True(code == 0, stderr);
-            foreach (var f in new[] { "path.csv", "path.jsonl", "summary.json", "curve.svg", "shape.svg" })
+            foreach (var f in new[] { "path.csv", "path.jsonl", "summary.json", "events.csv", "curve.svg", "shape.svg" })
                 Assert.True(File.Exists(Path.Combine(dir, f)), $"{f} missing; stdout: {stdout}");
+            // events.csv: one row per critical point of the stream, each with its multiplicity and location.
+            var events = File.ReadAllLines(Path.Combine(dir, "events.csv"));
+            Assert.StartsWith("event,sequence,branch,kind,load_factor", events[0]);
+            int criticals = File.ReadAllLines(Path.Combine(dir, "path.jsonl")).Count(l => l.Contains("\"criticalPoint\""));
+            Assert.Equal(criticals, events.Count(l => l.StartsWith("critical_point,")));
+            Assert.All(events.Where(l => l.StartsWith("critical_point,")), l => Assert.Contains(",true,", l));
             AssertCurveSvg(File.ReadAllText(Path.Combine(dir, "curve.svg")));
             var shape = XDocument.Parse(File.ReadAllText(Path.Combine(dir, "shape.svg")));
             Assert.Contains(shape.Descendants(), e => e.Value.Contains("deformed shape"));

@@ -40,6 +40,7 @@ internal static class TraceCommand
             Write(Path.Combine(dir, "path.csv"), rec.Csv);
             Write(Path.Combine(dir, "path.jsonl"), rec.JsonLines);
             Write(Path.Combine(dir, "summary.json"), rec.SummaryJson);
+            Write(Path.Combine(dir, "events.csv"), rec.EventsCsv);
             Write(Path.Combine(dir, "curve.svg"), () => Pictures.Curve(request, rec, o.GetInt("plot-monitored", 1) - 1));
             Write(Path.Combine(dir, "shape.svg"), () => Pictures.Shape(request, rec, ShapePoint(o), o.GetDouble("shape-scale")));
         }

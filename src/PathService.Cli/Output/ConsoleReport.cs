@@ -23,8 +23,15 @@ internal static class ConsoleReport
                 break;
             case TracePathResponse.UpdateOneofCase.CriticalPoint:
                 var c = r.CriticalPoint;
-                Console.WriteLine($"  >> {(c.Kind == CriticalPointKind.LimitPoint ? "limit point" : "bifurcation")} #{c.Sequence} at λ = {c.LoadFactor:G10} " +
-                                  $"(between points {c.PointBefore} and {c.PointAfter}, load alignment {c.LoadAlignment:G3}{(c.Located ? "" : ", not fully located")})");
+                string kind = c.Kind == CriticalPointKind.LimitPoint ? "limit point" : c.Multiplicity > 1 ? $"bifurcation of multiplicity {c.Multiplicity}" : "bifurcation";
+                Console.WriteLine($"  >> {kind} #{c.Sequence} at λ = {c.LoadFactor:G10} (between points {c.PointBefore} and {c.PointAfter}, " +
+                                  $"negative pivots {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, load alignment {c.LoadAlignment:G3}, " +
+                                  (c.Located ? $"located, estimated error {c.Tolerance:G2})" : $"NOT located: {c.LocationNote})"));
+                break;
+            case TracePathResponse.UpdateOneofCase.DisplacementTurn:
+                var t = r.DisplacementTurn;
+                string comp = t.Component is null ? "?" : $"{t.Component.Node}.{PathRecorder.Axis(t.Component.Direction)}";
+                Console.WriteLine($"  ~~ {comp} turns back at {t.Component?.Value:G6} (λ = {t.LoadFactor:G8}, between points {t.PointBefore} and {t.PointAfter})");
                 break;
             case TracePathResponse.UpdateOneofCase.MemberEvent:
                 var me = r.MemberEvent;
@@ -58,9 +65,17 @@ internal static class ConsoleReport
         if (rec.Criticals.Count > 0)
         {
             Console.WriteLine();
-            Console.WriteLine($"{"#",3} {"kind",-12} {"λ_cr",16} {"bracket (λ before … after)",32} {"alignment",10}");
+            Console.WriteLine($"{"#",3} {"kind",-12} {"mult",4} {"λ_cr",16} {"est. error",10} {"bracket (λ before … after)",32} {"alignment",10}");
             foreach (var c in rec.Criticals)
-                Console.WriteLine($"{c.Sequence,3} {(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation"),-12} {c.LoadFactor,16:G10} {$"{c.LoadFactorBefore:G6} … {c.LoadFactorAfter:G6}",32} {c.LoadAlignment,10:G3}");
+                Console.WriteLine($"{c.Sequence,3} {(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation"),-12} {Math.Max(1, c.Multiplicity),4} {c.LoadFactor,16:G10} " +
+                                  $"{(c.Located ? c.Tolerance.ToString("G2", CultureInfo.InvariantCulture) : "not located"),10} {$"{c.LoadFactorBefore:G6} … {c.LoadFactorAfter:G6}",32} {c.LoadAlignment,10:G3}");
+        }
+        if (rec.Turns.Count > 0)
+        {
+            Console.WriteLine();
+            Console.WriteLine("displacement turns");
+            foreach (var t in rec.Turns)
+                Console.WriteLine($"  #{t.Sequence} {(t.Component is null ? "?" : $"{t.Component.Node}.{PathRecorder.Axis(t.Component.Direction)}")} = {t.Component?.Value:G6} at λ = {t.LoadFactor:G8}");
         }
         Console.WriteLine();
         Console.WriteLine(Cautions.Short);

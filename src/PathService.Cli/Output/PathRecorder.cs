@@ -12,6 +12,7 @@ internal sealed class PathRecorder
     public List<CriticalPoint> Criticals { get; } = [];
     public List<StepCut> Cuts { get; } = [];
     public List<MemberEvent> MemberEvents { get; } = [];
+    public List<DisplacementTurn> Turns { get; } = [];
     public PathSummary? Summary { get; private set; }
     private readonly List<string> _jsonLines = [];
     private static readonly JsonFormatter Json = new(JsonFormatter.Settings.Default.WithFormatDefaultValues(true));
@@ -26,6 +27,7 @@ internal sealed class PathRecorder
             case TracePathResponse.UpdateOneofCase.StepCut: Cuts.Add(r.StepCut); break;
             case TracePathResponse.UpdateOneofCase.Summary: Summary = r.Summary; break;
             case TracePathResponse.UpdateOneofCase.MemberEvent: MemberEvents.Add(r.MemberEvent); break;
+            case TracePathResponse.UpdateOneofCase.DisplacementTurn: Turns.Add(r.DisplacementTurn); break;
         }
     }
 
@@ -45,6 +47,27 @@ internal sealed class PathRecorder
         return sb.ToString();
     }
 
+    /// <summary>
+    /// Critical points and displacement turns as one CSV table, in stream order of kind: one row per event with its
+    /// load factor, bracket, counts, multiplicity, location (located, estimated relative error, note) and load alignment.
+    /// </summary>
+    public string EventsCsv()
+    {
+        var sb = new StringBuilder();
+        sb.AppendLine("event,sequence,branch,kind,load_factor,point_before,point_after,negative_pivots_before,negative_pivots_after,multiplicity,located,estimated_error,load_alignment,component,value,note");
+        foreach (var c in Criticals)
+            sb.AppendLine(string.Join(',', "critical_point", I(c.Sequence), I(c.Branch), c.Kind == CriticalPointKind.LimitPoint ? "limit_point" : "bifurcation",
+                F(c.LoadFactor), I(c.PointBefore), I(c.PointAfter), I(c.NegativePivotsBefore), I(c.NegativePivotsAfter), I(Math.Max(1, c.Multiplicity)),
+                c.Located ? "true" : "false", F(c.Tolerance), F(c.LoadAlignment), "", "", Quote(c.LocationNote)));
+        foreach (var t in Turns)
+            sb.AppendLine(string.Join(',', "displacement_turn", I(t.Sequence), I(t.Branch), "turn", F(t.LoadFactor), I(t.PointBefore), I(t.PointAfter), "", "", "", "", "", "",
+                t.Component is null ? "" : $"{t.Component.Node}.{Axis(t.Component.Direction)}", t.Component is null ? "" : F(t.Component.Value), ""));
+        return sb.ToString();
+    }
+
+    private static string I(int v) => v.ToString(CultureInfo.InvariantCulture);
+    private static string Quote(string s) => s.Length == 0 ? "" : "\"" + s.Replace("\"", "\"\"") + "\"";
+
     public string JsonLines() => string.Join('\n', _jsonLines) + "\n";
 
     public string SummaryJson()
@@ -57,7 +80,7 @@ internal sealed class PathRecorder
     }
 
     /// <summary>The critical point without its full state and mode, which belong in the JSON lines.</summary>
-    private static CriticalPoint Strip(CriticalPoint c) { var copy = c.Clone(); copy.State = null; copy.Mode.Clear(); return copy; }
+    private static CriticalPoint Strip(CriticalPoint c) { var copy = c.Clone(); copy.State = null; copy.Mode.Clear(); copy.AdditionalModes.Clear(); return copy; }
 
     public static string Axis(Direction d) => d switch { Direction.X => "x", Direction.Y => "y", Direction.Z => "z", _ => "?" };
     public static string F(double v) => v.ToString("R", CultureInfo.InvariantCulture);

@@ -21,6 +21,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         BranchStarted b => new() { BranchStarted = new Proto.BranchStarted { Branch = b.Branch, FromBranch = b.FromBranch, CriticalPointSequence = b.CriticalPointSequence, LoadFactor = b.LoadFactor } },
         MemberEvent me => new() { MemberEvent = ToMemberEvent(me) },
         BranchEnded b => new() { BranchEnded = new Proto.BranchEnded { Branch = b.Branch, Reason = ToReason(b.Reason), Message = b.Message } },
+        DisplacementTurn t => new() { DisplacementTurn = ToTurn(t) },
         _ => throw new NotSupportedException($"unknown path event {e.GetType().Name}"),
     };
 
@@ -49,6 +50,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             CutReason.ComplexRoots => Proto.CutReason.ComplexRoots,
             CutReason.SingularTangent => Proto.CutReason.SingularTangent,
             CutReason.PathJump => Proto.CutReason.PathJump,
+            CutReason.SharpTurn => Proto.CutReason.SharpTurn,
             _ => Proto.CutReason.Unspecified,
         },
     };
@@ -64,9 +66,27 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             NegativePivotsBefore = c.NegativePivotsBefore, NegativePivotsAfter = c.NegativePivotsAfter,
             LowestEigenvalue = c.LowestEigenvalue, LoadAlignment = c.LoadAlignment, Located = c.Located, Tolerance = c.Tolerance,
             State = c.State is null ? null : ToState(c.State),
+            Multiplicity = c.Multiplicity, LocationNote = c.LocationNote,
         };
         AddMonitored(m.Monitored, c.Monitored);
         AddVectors(m.Mode, c.Mode);
+        foreach (var extra in c.AdditionalModes)
+        {
+            var shape = new Proto.ModeShape();
+            AddVectors(shape.Vectors, extra);
+            m.AdditionalModes.Add(shape);
+        }
+        return m;
+    }
+
+    public Proto.DisplacementTurn ToTurn(DisplacementTurn t)
+    {
+        var m = new Proto.DisplacementTurn { Sequence = t.Sequence, LoadFactor = t.LoadFactor, PointBefore = t.PointBefore, PointAfter = t.PointAfter, Branch = t.Branch };
+        if (t.MonitoredIndex >= 0 && t.MonitoredIndex < monitored.Count)
+        {
+            var d = monitored[t.MonitoredIndex];
+            m.Component = new Proto.MonitoredDisplacement { Node = d.Node, Direction = ModelMapper.ToDirection(d.Direction), Value = t.Value };
+        }
         return m;
     }
 

@@ -46,6 +46,9 @@ internal sealed class Corrector(EquilibriumSystem sys)
         ResidualNorm = norm;
         if (double.IsNaN(norm)) return Fail(CutReason.NonFiniteValue, "non-finite residual at the predicted state");
         if (norm <= tolerance * sys.LoadNorm(lambda)) return CorrectorOutcome.Converged;
+        // A kept factorisation that has an exactly zero pivot cannot solve: a cut, never an exception.
+        if (keepFactor && sys.Factor.Status == LdlStatus.ZeroPivot)
+            return Fail(CutReason.SingularTangent, "the tangent kept for modified Newton is exactly singular");
         double first = norm, previous = double.PositiveInfinity, beforePrevious = double.PositiveInfinity;
         double scale = sys.LoadNorm(lambda);
 

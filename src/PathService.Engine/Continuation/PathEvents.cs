@@ -31,6 +31,8 @@ public enum CutReason
     SingularTangent,
     /// <summary>Load control converged on a distant branch (the structure snapped through): rejected so that the path is not skipped.</summary>
     PathJump,
+    /// <summary>The path turned back within the step too sharply for a critical point in it to be located on the step's chord; retried shorter.</summary>
+    SharpTurn,
 }
 
 /// <summary>A step that failed to converge and was retried with a smaller increment.</summary>
@@ -40,12 +42,18 @@ public enum CriticalPointKind { LimitPoint, Bifurcation }
 
 /// <summary>
 /// A critical point bracketed by a change of the negative-pivot count between two converged points and then
-/// located on the path by regula falsi on the tangent's eigenvalue nearest zero.
+/// located on the path by regula falsi on the tangent's eigenvalue nearest zero. A step with several changes of the count
+/// is resolved into several critical points; NegativePivotsBefore/After are the counts on either side of this one, so the
+/// changes of all critical points between two path points add up to the change between those points.
 /// </summary>
-/// <param name="LoadAlignment">|φ·F_ref| / (‖φ‖‖F_ref‖): near 1 for a limit point, near 0 for a bifurcation.</param>
+/// <param name="Kind">Limit point when λ turns back along the path there (dλ/ds changes sign), bifurcation when it passes on.</param>
+/// <param name="LoadAlignment">|φ·F_ref| / (‖φ‖‖F_ref‖): information only (≈ 0 at a bifurcation; at a limit point it can be small
+/// on a large model with a local mode, ~1/√N for a mode at one of N equally loaded nodes).</param>
 /// <param name="Mode">Critical (near-null) mode, full vector of 3 per node, largest component 1.</param>
 /// <param name="LoadFactorBefore">λ of the converged path point before the critical point (the bracket's first end).</param>
-/// <param name="Located">Whether the location met the tolerance; when false, λ_cr is the best estimate inside the bracket.</param>
+/// <param name="Located">Whether the estimated λ error (Tolerance) meets the asked relative tolerance; when false,
+/// λ_cr is the best estimate inside the bracket and LocationNote says why.</param>
+/// <param name="Tolerance">Estimated relative error of λ_cr, |λ_cr − λ*| / max(1, |λ_cr|), from the last location trials.</param>
 public sealed record CriticalPoint(
     int Sequence, CriticalPointKind Kind, double LoadFactor, double LoadFactorBefore, double LoadFactorAfter,
     int PointBefore, int PointAfter, int NegativePivotsBefore, int NegativePivotsAfter,
@@ -53,6 +61,35 @@ public sealed record CriticalPoint(
     StructureState? State) : PathEvent
 {
     /// <summary>The branch on which the critical point was found.</summary>
+    public int Branch { get; init; }
+
+    /// <summary>Number of eigenvalues crossing zero at this λ: 1 for a limit point or simple bifurcation, k for a bifurcation of multiplicity k.</summary>
+    public int Multiplicity { get; init; } = 1;
+
+    /// <summary>The other k − 1 critical modes of a multiple bifurcation (same normalisation as <see cref="Mode"/>, orthogonal to it); empty when simple.</summary>
+    public IReadOnlyList<double[]> AdditionalModes { get; init; } = [];
+
+    /// <summary>Why the location did not meet the tolerance (empty when <see cref="Located"/>).</summary>
+    public string LocationNote { get; init; } = "";
+
+    /// <summary>Engine-internal: the step's chord could not order the states around this point (the walker then shortens the step).</summary>
+    internal bool Folded { get; init; }
+}
+
+/// <summary>
+/// A monitored displacement component reaches an extreme value along the path and turns back (its increment changes sign
+/// between consecutive steps, e.g. a snap-back seen in that component). Located by a quadratic through the three points
+/// around the turn, in arc length.
+/// </summary>
+/// <param name="Sequence">1-based number of the turn along the trace.</param>
+/// <param name="MonitoredIndex">Index of the component in the controls' monitored list.</param>
+/// <param name="Value">The extreme value of the component (length unit).</param>
+/// <param name="LoadFactor">λ at the turn.</param>
+/// <param name="PointBefore">Index of the path point before the turn.</param>
+/// <param name="PointAfter">Index of the path point after the turn.</param>
+public sealed record DisplacementTurn(int Sequence, int MonitoredIndex, double Value, double LoadFactor, int PointBefore, int PointAfter) : PathEvent
+{
+    /// <summary>The branch on which the turn was found.</summary>
     public int Branch { get; init; }
 }
 

@@ -56,10 +56,14 @@ public sealed record SolverControls
     /// <summary>Displacement components reported at every point (in this order).</summary>
     public IReadOnlyList<DofReference> Monitored { get; init; } = [];
 
-    /// <summary>Critical points: detect by inertia change, locate λ_cr to this relative tolerance.</summary>
+    /// <summary>Critical points: detect by inertia change, locate λ_cr to this relative tolerance (estimated error, see CriticalPoint.Tolerance).</summary>
     public bool DetectCriticalPoints { get; init; } = true;
     public double CriticalPointTolerance { get; init; } = 1e-9;
-    /// <summary>|φ·F_ref|/(‖φ‖‖F_ref‖) below this marks a bifurcation, above it a limit point (common practice, no source).</summary>
+    /// <summary>
+    /// Fallback classification only: the kind is decided by whether λ turns back at the point; when that cannot be
+    /// judged (a step without displacement change), |φ·F_ref|/(‖φ‖‖F_ref‖) below this marks a bifurcation, above it a
+    /// limit point (common practice, no source).
+    /// </summary>
     public double BifurcationThreshold { get; init; } = 1e-3;
     /// <summary>Relative pivot size below which the tangent counts as singular (mechanism at the start).</summary>
     public double TinyPivotRatio { get; init; } = 1e-11;

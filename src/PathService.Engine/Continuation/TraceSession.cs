@@ -21,6 +21,8 @@ internal sealed class TraceSession(StructuralModel model, SolverControls control
     public int Steps { get; set; }
     public int Iterations { get; set; }
     public int Cuts { get; set; }
+    /// <summary>Turns of monitored displacements reported so far (numbers the DisplacementTurn events).</summary>
+    public int Turns { get; set; }
     public int Branches { get; set; } = 1;
     public double MaxLoadFactor { get; set; }
     public double FinalLoadFactor { get; set; }

@@ -4,15 +4,26 @@ using PathService.Engine.Sparse;
 namespace PathService.Engine.Stability;
 
 /// <summary>
-/// Locates a critical point bracketed by two converged path points a and b whose tangents differ in their number of
-/// negative pivots. States between them are found by re-solving equilibrium on hyperplanes normal to the displacement
-/// chord d = u_b − u_a at fraction t (Riks' constraint, linear, so no complex roots), starting from the secant
-/// predictor. The eigenvalue of the tangent nearest zero, μ(t), changes sign in the bracket; its root is found by
-/// the Illinois variant of regula falsi (Dowell and Jarratt 1971), kept inside the bracket by the inertia at each trial.
+/// Resolves one converged step a → b whose tangents differ in their number of negative pivots into its critical
+/// points. States between a and b are found by re-solving equilibrium on hyperplanes normal to the displacement chord
+/// d = u_b − u_a at fraction t (Riks' constraint, linear, so no complex roots). In a bracket [t_lo, t_hi] the eigenvalue
+/// of the tangent nearest zero, μ(t), is driven to its root by the Illinois variant of regula falsi (Dowell and Jarratt
+/// 1971); the inertia of every trial keeps the root bracketed, and a trial whose count lies outside the bracket's two
+/// counts splits the bracket (bisection on the inertia), so that each reported point accounts for its own change of the
+/// count. A change of k at one λ (no trial separates it) is one bifurcation of multiplicity k, with k modes from block
+/// inverse iteration. The λ error is estimated from a quadratic model of μ(t) and λ(t) through the last trials (see
+/// docs/theory.md, "Critical points"); the point is located when that estimate meets the asked tolerance.
 /// </summary>
 internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corrector, SolverControls controls)
 {
-    public sealed record Result(double LoadFactor, double[] Displacement, double Eigenvalue, double[] ModeFree, bool Located, double Tolerance);
+    /// <summary>One resolved critical point of the step.</summary>
+    /// <param name="LoadTurns">True when λ turns back across the bracket (dλ/dt changes sign: a limit point), false when it passes on, null when unknown.</param>
+    public sealed record Result(double LoadFactor, double[] Displacement, double Eigenvalue, double[][] ModesFree,
+        int NegativeBefore, int NegativeAfter, bool Located, double Tolerance, string Note, bool? LoadTurns)
+    {
+        /// <summary>The chord of the step could not order the states (the path turns back within it): shorten the step.</summary>
+        public bool Folded { get; init; }
+    }
 
     /// <summary>Trials first try modified Newton with the tangent in place (the last trial's) for this many iterations.</summary>
     private const int ModifiedNewtonIterations = 12;
@@ -20,123 +31,374 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     /// <summary>Relative change of μ that ends inverse iteration at the bracket ends.</summary>
     private const double EndTolerance = 1e-6;
 
+    /// <summary>Trials per step over all its brackets: a bound on the work, never reached on a well-posed step.</summary>
+    private const int MaxTrials = 120;
+
+    /// <summary>Location iterates until the estimated λ error is this fraction of the asked tolerance.</summary>
+    private const double Target = 1.0 / 3.0;
+
+    private sealed class State(double t, double[] u, double lambda, int count, double mu, double[] mode, int slope)
+    {
+        public double T = t;
+        public double[] U = u;
+        public double Lambda = lambda;
+        public int Count = count;
+        public double Mu = mu;
+        public double[] Mode = mode;
+        /// <summary>Sign of dλ/dt along the chord at this state (0 when not known).</summary>
+        public int Slope = slope;
+    }
+
+    private double[] _d = [];
+    // Work vectors of one Locate call (free DOFs), reused by every trial: the slope solve and residuals, and the increment.
+    private double[] _work = [], _dU = [];
+    private double _dl, _w, _dNorm, _residualScale = 1.0;
+    private int _trials;
+    private State? _factored; // the state the factorisation in place belongs to (null: none of ours)
+
     /// <param name="factorAtB">True when the system's factorisation is already the tangent at u_b (saves one).</param>
-    public Result Locate(double[] ua, double lambdaA, int na, double[] ub, double lambdaB, int nb, double[]? modeGuess, CancellationToken ct,
+    public List<Result> Locate(double[] ua, double lambdaA, int na, double[] ub, double lambdaB, int nb, double[]? modeGuess, CancellationToken ct,
         bool factorAtB = false)
     {
         int n = sys.FreeCount;
         var fullOf = sys.Model.Dofs.FullOf;
-        var d = new double[n];
-        for (int e = 0; e < n; e++) d[e] = ub[fullOf[e]] - ua[fullOf[e]];
-        double dl = lambdaB - lambdaA;
-        double dd = EquilibriumSystem.Dot(d, d);
+        _d = new double[n];
+        _work = new double[n];
+        _dU = new double[n];
+        for (int e = 0; e < n; e++) _d[e] = ub[fullOf[e]] - ua[fullOf[e]];
+        _dl = lambdaB - lambdaA;
         // Hold the displacement projection on the chord, (u − u_a)·d = t‖d‖²: within one converged step the path is
         // monotone in that projection, whereas λ is not near a limit point. λ alone only when the chord has no displacement.
-        double w = dd > 0 ? 0.0 : 1.0;
+        _dNorm = Math.Sqrt(EquilibriumSystem.Dot(_d, _d));
+        _w = _dNorm > 0 ? 0.0 : 1.0;
+        _trials = 0;
 
         // At the bracket ends μ only sets the scale and the first regula falsi trial: a few digits are enough.
-        var (muB, modeB) = factorAtB && sys.Factor.Status != LdlStatus.ZeroPivot
-            ? NearNullMode.Compute(sys, modeGuess, tolerance: EndTolerance, mixStart: true) : EigenAt(ub, modeGuess);
-        var (muA, _) = EigenAt(ua, modeB);
-        double tLo = 0, tHi = 1, fLo = muA, fHi = muB;
-        double lambdaLo = lambdaA, lambdaHi = lambdaB;
-        // Converged when the eigenvalue nearest zero is this small against its values at the bracket ends.
-        double muScale = Math.Abs(muA) + Math.Abs(muB);
-        // μ is about linear in t near its root, so a relative μ of ε puts t within ~ε of t*: λ_cr is then within
-        // ε·|Δλ| at a bifurcation and within ε² at a limit point (an extremum of λ).
-        double muStop = Math.Min(1e-6, 1e3 * controls.CriticalPointTolerance) * muScale;
-        int side = 0, sinceHalved = 0;
-        double width = 1;
-        double[] bestU = (double[])ub.Clone();
-        double bestLambda = lambdaB, bestMu = muB, runnerUpLambda = lambdaA;
-        double[] bestMode = modeB;
-        bool located = false;
-        var u = new double[ua.Length];
-        var dU = new double[n];
+        var b = factorAtB && sys.Factor.Status != LdlStatus.ZeroPivot
+            ? Describe(1, (double[])ub.Clone(), lambdaB, nb, modeGuess, EndTolerance, true)
+            : FactorAndDescribe(1, (double[])ub.Clone(), lambdaB, nb, modeGuess, EndTolerance);
+        var a = FactorAndDescribe(0, (double[])ua.Clone(), lambdaA, na, b.Mode, EndTolerance);
+        double muScale = Math.Abs(a.Mu) + Math.Abs(b.Mu);
+        // Where λ turns in the step (a limit point), a residual r of the trial states moves λ_cr by ~ φ·r / φ·F_ref: for a
+        // local mode on a large model (small load alignment α) that is 1/α times the residual's share of the load.
+        // Solve the trials that much tighter (within what rounding allows).
+        _residualScale = 1.0;
+        if (a.Slope != 0 && b.Slope != 0 && a.Slope != b.Slope)
+            _residualScale = Math.Clamp(Alignment(b.Mode), 1e-4, 1.0);
+        var results = new List<Result>();
+        Resolve(a, b, muScale, results, ct);
+        return MergeCoincident(results);
+    }
 
-        for (int iter = 0; iter < 80 && !ct.IsCancellationRequested; iter++)
+    /// <summary>
+    /// Two changes of the count found at the same λ (within the asked tolerance plus both estimates), neither of them a
+    /// turn of λ, are one bifurcation of multiplicity k1 + k2: a symmetric structure's repeated eigenvalue can be split by
+    /// rounding into two crossings a few ulps apart. Reported once, with the k modes at the better-located state.
+    /// </summary>
+    private List<Result> MergeCoincident(List<Result> results)
+    {
+        if (results.Count < 2) return results;
+        var merged = new List<Result> { results[0] };
+        for (int i = 1; i < results.Count; i++)
         {
-            // Illinois regula falsi on μ(t); bisection when the bracket has not halved in three tries.
-            double t = 0.5 * (tLo + tHi);
+            var p = merged[^1];
+            var r = results[i];
+            double scale = Math.Max(1.0, Math.Abs(r.LoadFactor));
+            bool sameDirection = Math.Sign(p.NegativeAfter - p.NegativeBefore) == Math.Sign(r.NegativeAfter - r.NegativeBefore);
+            bool coincident = Math.Abs(p.LoadFactor - r.LoadFactor) <= (controls.CriticalPointTolerance + p.Tolerance + r.Tolerance) * scale;
+            if (!(sameDirection && coincident && p.NegativeAfter == r.NegativeBefore && p.LoadTurns != true && r.LoadTurns != true && !p.Folded && !r.Folded))
+            {
+                merged.Add(r);
+                continue;
+            }
+            var keep = Math.Abs(p.Eigenvalue) <= Math.Abs(r.Eigenvalue) ? p : r;
+            int k = Math.Abs(r.NegativeAfter - p.NegativeBefore);
+            double[][] modes = [.. p.ModesFree, .. r.ModesFree];
+            double mu = keep.Eigenvalue;
+            if (sys.Refactor(keep.Displacement) != LdlStatus.ZeroPivot)
+            {
+                var (values, vectors) = NearNullMode.ComputeBlock(sys, k, keep.ModesFree[0]);
+                modes = vectors;
+                mu = values[0];
+            }
+            _factored = null;
+            bool located = p.Located && r.Located;
+            merged[^1] = new Result(keep.LoadFactor, keep.Displacement, mu, modes, p.NegativeBefore, r.NegativeAfter, located,
+                Math.Max(p.Tolerance, r.Tolerance), located ? "" : string.Join("; ", new[] { p.Note, r.Note }.Where(x => x.Length > 0)), false);
+        }
+        return merged;
+    }
+
+    /// <summary>Locates the critical points between two states of the step (counts differ), splitting on intermediate counts.</summary>
+    private void Resolve(State lo, State hi, double muScale, List<Result> results, CancellationToken ct)
+    {
+        if (lo.Count == hi.Count) return;
+        var history = new List<State> { lo, hi };
+        double fLo = lo.Mu, fHi = hi.Mu;
+        int side = 0, sinceHalved = 0;
+        double width = hi.T - lo.T;
+        State best = Math.Abs(lo.Mu) < Math.Abs(hi.Mu) ? lo : hi;
+        string note = "";
+        bool located = false, exact = false, folded = false;
+        double estimate = double.PositiveInfinity;
+        double tol = controls.CriticalPointTolerance;
+
+        while (true)
+        {
+            if (ct.IsCancellationRequested) { note = "cancelled during location"; break; }
+            if (_trials >= MaxTrials) { note = $"stopped after {MaxTrials} trial states in this step"; break; }
+            // Illinois regula falsi on μ(t); bisection when the bracket has not halved in three tries or μ has one sign.
+            double t = 0.5 * (lo.T + hi.T);
             if (sinceHalved < 3 && Math.Sign(fLo) != Math.Sign(fHi))
             {
-                double tf = tLo + fLo / (fLo - fHi) * (tHi - tLo);
-                if (tf > tLo && tf < tHi) t = tf;
+                double tf = lo.T + fLo / (fLo - fHi) * (hi.T - lo.T);
+                if (tf > lo.T && tf < hi.T) t = tf;
             }
-            if (!TrySolveAt(t, ua, lambdaA, d, dl, w, u, dU, out double lambda, ct))
+            var trial = Trial(t, lo, hi, best.Mode, muScale, ct);
+            if (trial is null)
             {
-                t = 0.5 * (tLo + tHi);
-                if (!TrySolveAt(t, ua, lambdaA, d, dl, w, u, dU, out lambda, ct)) break;
+                t = 0.5 * (lo.T + hi.T);
+                trial = Trial(t, lo, hi, best.Mode, muScale, ct);
             }
-            var status = sys.Refactor(u);
-            int inertia = status == LdlStatus.ZeroPivot ? -1 : sys.Factor.NegativePivotCount;
-            // μ is only needed to a small fraction of its values at the bracket ends to steer regula falsi.
-            var (mu, mode) = status == LdlStatus.ZeroPivot ? (0.0, bestMode) : NearNullMode.Compute(sys, bestMode, absoluteTolerance: 1e-10 * muScale);
-            if (Math.Abs(mu) <= Math.Abs(bestMu))
+            if (trial is null) { note = $"no equilibrium state found on the hyperplane at t = {t:G6} of the step"; break; }
+            if (trial.Count < 0)
             {
-                runnerUpLambda = bestLambda;
-                bestU = (double[])u.Clone(); bestLambda = lambda; bestMu = mu; bestMode = mode;
+                // An exactly singular tangent: the trial is the critical state itself, to rounding.
+                best = trial;
+                located = true;
+                exact = true;
+                estimate = 0;
+                break;
             }
-            if (status == LdlStatus.ZeroPivot || Math.Abs(mu) <= muStop) { located = true; break; }
-            if (inertia == na)
+            if (trial.Count != lo.Count && trial.Count != hi.Count)
             {
-                tLo = t; fLo = mu;
+                // More than one change of the count in the bracket and this trial separates them: resolve each part.
+                Resolve(lo, trial, muScale, results, ct);
+                Resolve(trial, hi, muScale, results, ct);
+                return;
+            }
+            history.Add(trial);
+            if (Math.Abs(trial.Mu) <= Math.Abs(best.Mu)) best = trial;
+            if (trial.Count == lo.Count)
+            {
+                lo = trial; fLo = trial.Mu;
                 if (side == -1) fHi *= 0.5; // Illinois: halve the retained end's value when the same end moves twice
                 side = -1;
             }
             else
             {
-                tHi = t; fHi = mu;
+                hi = trial; fHi = trial.Mu;
                 if (side == 1) fLo *= 0.5;
                 side = 1;
             }
-            if (inertia == na) lambdaLo = lambda; else lambdaHi = lambda;
-            if (tHi - tLo <= 0.5 * width) { width = tHi - tLo; sinceHalved = 0; } else sinceHalved++;
-            // Where λ is monotone across the bracket (a bifurcation on a rising path), λ_cr lies between its ends.
-            bool monotone = (lambdaLo - lambda) * (lambda - lambdaHi) >= 0 && Math.Abs(lambdaHi - lambdaLo) > 0;
-            if (monotone && Math.Abs(lambdaHi - lambdaLo) <= controls.CriticalPointTolerance * Math.Max(1.0, Math.Abs(lambda)))
+            if (hi.T - lo.T <= 0.5 * width) { width = hi.T - lo.T; sinceHalved = 0; } else sinceHalved++;
+            if (Folded(lo, hi))
             {
-                located = true;
-                runnerUpLambda = inertia == na ? lambdaHi : lambdaLo;
+                // Two states close in t but far apart: the hyperplanes cut the path more than once (it turns back in the
+                // chord's direction within the step), so t no longer orders the states along the path.
+                note = "the path turns too sharply within the step for its chord to order the states; a shorter step is needed";
+                folded = true;
                 break;
             }
-            if (tHi - tLo < 1e-12) { located = true; break; }
+
+            estimate = ErrorEstimate(history, lo, hi, best);
+            // Iterate to a third of the asked tolerance: the estimate is a model's, so keep a margin below the promise.
+            if (estimate <= Target * tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; break; }
+            if (hi.T - lo.T <= 4 * double.Epsilon * Math.Max(1.0, Math.Abs(hi.T)) || hi.T - lo.T < 1e-15)
+            {
+                note = $"the bracket cannot be narrowed further (width {hi.T - lo.T:G3} of the step); estimated λ error {estimate:G3}";
+                break;
+            }
         }
-        double achieved = Math.Abs(bestLambda - runnerUpLambda) / Math.Max(1.0, Math.Abs(bestLambda));
-        located &= achieved <= Math.Max(controls.CriticalPointTolerance, 1e-12) || Math.Abs(bestMu) <= muStop;
-        return new Result(bestLambda, bestU, bestMu, bestMode, located, achieved);
+        double relative = double.IsFinite(estimate) ? estimate / Math.Max(1.0, Math.Abs(best.Lambda)) : 1.0;
+        if (!located && note.Length == 0) note = "location did not converge";
+        // Located is the promise: the estimated λ error meets the asked tolerance (a trial stopped for another reason may still meet it).
+        if (!located && !folded && double.IsFinite(estimate) && estimate <= tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; note = ""; }
+        if (!located) note += $" (asked {tol:G3}, estimated {relative:G3})";
+        // Without a finite estimate, or when the chord could not order the states (the model's trials lie on different
+        // crossings of the path), the bracket's λ span is the honest figure.
+        if (!double.IsFinite(estimate) || folded)
+            relative = Math.Max(double.IsFinite(estimate) ? relative : 0, Math.Abs(hi.Lambda - lo.Lambda) / Math.Max(1.0, Math.Abs(best.Lambda)));
+
+        int k = Math.Abs(hi.Count - lo.Count);
+        double[][] modes = [best.Mode];
+        double mu = best.Mu;
+        if (k > 1 && !exact)
+        {
+            // Multiplicity k: k modes of the eigenvalues nearest zero at the located state (block inverse iteration).
+            if (_factored != best && sys.Refactor(best.U) == LdlStatus.ZeroPivot) { _factored = null; }
+            else
+            {
+                _factored = best;
+                var (values, vectors) = NearNullMode.ComputeBlock(sys, k, best.Mode);
+                modes = vectors;
+                mu = values[0];
+            }
+        }
+        // λ turns back across the bracket (a limit point) when dλ/dt changes sign between its ends.
+        bool? turns = lo.Slope != 0 && hi.Slope != 0 ? lo.Slope != hi.Slope : null;
+        if (!exact)
+        {
+            // The residual r of the located state is part of the error: at a limit point it shifts λ_cr by about
+            // φ·r / φ·F_ref; elsewhere (λ monotone, φ·F_ref ≈ 0) by about ‖r‖ / ‖F_ref‖.
+            var r = _work;
+            double rn = sys.Residual(best.U, best.Lambda, r);
+            double shift = turns == true
+                ? Math.Abs(EquilibriumSystem.Dot(best.Mode, r)) / Math.Max(Math.Abs(EquilibriumSystem.Dot(best.Mode, sys.ReferenceFree)), 1e-300)
+                : rn / Math.Sqrt(sys.ReferenceNormSquared);
+            if (double.IsFinite(shift)) relative += shift / Math.Max(1.0, Math.Abs(best.Lambda));
+            if (located && relative > tol)
+            {
+                located = false;
+                note = $"the residual of the located state limits λ_cr to a relative {relative:G3} (asked {tol:G3}); tighten residual_tolerance";
+            }
+        }
+        results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
+            { Folded = folded });
     }
 
-    private (double Mu, double[] Mode) EigenAt(double[] u, double[]? guess)
+    private double Alignment(double[] mode) =>
+        Math.Abs(EquilibriumSystem.Dot(mode, sys.ReferenceFree)) / Math.Max(1e-300, Math.Sqrt(EquilibriumSystem.Dot(mode, mode) * sys.ReferenceNormSquared));
+
+    /// <summary>
+    /// On a path that is monotone in t, ‖u_hi − u_lo‖ ≈ (t_hi − t_lo)‖d‖ up to the path's curvature. A distance many
+    /// times larger (with a narrow bracket) means the two ends lie on different crossings of the path with the hyperplanes.
+    /// </summary>
+    private bool Folded(State lo, State hi)
     {
-        if (sys.Refactor(u) == LdlStatus.ZeroPivot) return (0.0, guess ?? new double[sys.FreeCount]);
-        return NearNullMode.Compute(sys, guess, tolerance: EndTolerance, mixStart: true);
+        double width = hi.T - lo.T;
+        if (width > 0.25) return false;
+        double dist = 0;
+        for (int i = 0; i < lo.U.Length; i++) { double x = hi.U[i] - lo.U[i]; dist += x * x; }
+        return Math.Sqrt(dist) > 20 * width * _dNorm + 1e-12 * _dNorm;
     }
 
-    private bool TrySolveAt(double t, double[] ua, double lambdaA, double[] d, double dl, double w,
-        double[] u, double[] dU, out double lambda, CancellationToken ct)
+    /// <summary>
+    /// Estimated |λ(t*) − λ_best|: t* from a quadratic model of μ(t) through the three latest states (Newton from the
+    /// regula falsi root), λ(t*) from a quadratic model of λ(t) through the same states, plus the change of λ between the
+    /// linear and the quadratic prediction of t* as the model's own uncertainty. At a limit point λ is stationary, so
+    /// this is ~ ½|λ''|δt², not the bracket width.
+    /// </summary>
+    private static double ErrorEstimate(List<State> history, State lo, State hi, State best)
     {
-        var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: d, NormalLoad: dl, LoadWeight: w);
-        double tolerance = Math.Min(controls.ResidualTolerance, 1e-10);
+        if (Math.Sign(lo.Mu) == Math.Sign(hi.Mu) || lo.Mu == hi.Mu)
+            return Math.Max(Math.Abs(lo.Lambda - best.Lambda), Math.Abs(hi.Lambda - best.Lambda));
+        double tLin = lo.T + lo.Mu / (lo.Mu - hi.Mu) * (hi.T - lo.T);
+        // The three latest distinct states (the latest trials are the nearest to the root).
+        var pts = history.DistinctBy(p => p.T).TakeLast(3).ToArray();
+        if (pts.Length < 3) return double.PositiveInfinity;
+        var (m0, m1, m2) = Quadratic(pts, p => p.Mu);
+        var (l0, l1, l2) = Quadratic(pts, p => p.Lambda);
+        double Eval(double c0, double c1, double c2, double t) => c0 + c1 * (t - pts[0].T) + c2 * (t - pts[0].T) * (t - pts[1].T);
+        double Deriv(double c1, double c2, double t) => c1 + c2 * ((t - pts[0].T) + (t - pts[1].T));
+        double tq = tLin;
+        for (int i = 0; i < 4; i++)
+        {
+            double dm = Deriv(m1, m2, tq);
+            if (dm == 0 || !double.IsFinite(dm)) break;
+            tq -= Eval(m0, m1, m2, tq) / dm;
+        }
+        if (!double.IsFinite(tq) || tq < lo.T || tq > hi.T) tq = tLin;
+        double lambdaQ = Eval(l0, l1, l2, tq), lambdaL = Eval(l0, l1, l2, tLin);
+        return Math.Abs(lambdaQ - best.Lambda) + Math.Abs(lambdaQ - lambdaL);
+    }
+
+    /// <summary>Newton divided differences of f over three states: f ≈ c0 + c1(t − t0) + c2(t − t0)(t − t1).</summary>
+    private static (double, double, double) Quadratic(State[] p, Func<State, double> f)
+    {
+        double f01 = (f(p[1]) - f(p[0])) / (p[1].T - p[0].T);
+        double f12 = (f(p[2]) - f(p[1])) / (p[2].T - p[1].T);
+        double f012 = (f12 - f01) / (p[2].T - p[0].T);
+        return (f(p[0]), f01, f012);
+    }
+
+    /// <summary>Equilibrium on the hyperplane at t, its tangent's inertia, μ and mode; null when no state was found.</summary>
+    private State? Trial(double t, State lo, State hi, double[] modeGuess, double muScale, CancellationToken ct)
+    {
+        _trials++;
+        var u = new double[lo.U.Length];
+        if (!TrySolveAt(t, lo, hi, u, out double lambda, ct)) return null;
+        if (sys.Refactor(u) == LdlStatus.ZeroPivot)
+        {
+            _factored = null;
+            return new State(t, u, lambda, -1, 0.0, modeGuess, 0);
+        }
+        var s = new State(t, u, lambda, sys.Factor.NegativePivotCount, 0, modeGuess, 0);
+        _factored = s;
+        // μ is needed to 10⁻⁶ of itself (it steers regula falsi and models its root) and, near the root, to 10⁻¹² of its
+        // values at the step ends: more would only cost inverse-iteration solves.
+        (s.Mu, s.Mode) = NearNullMode.Compute(sys, modeGuess, tolerance: 1e-6, absoluteTolerance: 1e-12 * muScale);
+        s.Slope = SlopeSign();
+        return s;
+    }
+
+    private State FactorAndDescribe(double t, double[] u, double lambda, int count, double[]? guess, double tolerance)
+    {
+        if (sys.Refactor(u) == LdlStatus.ZeroPivot)
+        {
+            _factored = null;
+            return new State(t, u, lambda, count, 0.0, guess ?? new double[sys.FreeCount], 0);
+        }
+        return Describe(t, u, lambda, count, guess, tolerance, true);
+    }
+
+    private State Describe(double t, double[] u, double lambda, int count, double[]? guess, double tolerance, bool mix)
+    {
+        var (mu, mode) = NearNullMode.Compute(sys, guess, tolerance: tolerance, mixStart: mix);
+        var s = new State(t, u, lambda, count, mu, mode, SlopeSign());
+        _factored = s;
+        return s;
+    }
+
+    /// <summary>
+    /// Sign of dλ/dt along the chord at the factorised state: the path tangent satisfies K u' = λ' F_ref and
+    /// u'·d = ‖d‖², so λ' = ‖d‖² / (d·K⁻¹F_ref). 0 when the chord holds λ only (no turn possible in t).
+    /// </summary>
+    private int SlopeSign()
+    {
+        if (_w != 0) return 0;
+        var v = _work;
+        sys.Factor.Solve(sys.ReferenceFree, v);
+        double dot = EquilibriumSystem.Dot(v, _d);
+        return double.IsFinite(dot) ? Math.Sign(dot) : 0;
+    }
+
+    private bool TrySolveAt(double t, State lo, State hi, double[] u, out double lambda, CancellationToken ct)
+    {
+        var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: _d, NormalLoad: _dl, LoadWeight: _w);
+        double tolerance = Math.Max(Math.Min(controls.ResidualTolerance, 1e-10) * _residualScale, 1e-14);
+        var dU = _dU;
         // Modified Newton first: the factorisation in place is the tangent at the last trial (or a bracket end), a state
         // close to this one, so a few solves usually replace several factorisations. Full Newton from the same predictor
         // when that does not converge (the critical mode's stiffness may change sign between the two states).
-        Predict(t, ua, lambdaA, d, dl, u, dU, out lambda, out double dLam);
-        var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
-        if (outcome == CorrectorOutcome.Converged) return true;
-        if (outcome == CorrectorOutcome.Cancelled) return false;
-        Predict(t, ua, lambdaA, d, dl, u, dU, out lambda, out dLam);
-        outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, tolerance, ct);
-        return outcome == CorrectorOutcome.Converged;
+        Predict(t, lo, hi, u, dU, out lambda, out double dLam);
+        double firstResidual = sys.Residual(u, lambda, _work);
+        if (_factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot)
+        {
+            var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
+            if (outcome == CorrectorOutcome.Converged) return true;
+            if (outcome == CorrectorOutcome.Cancelled) return false;
+            // Modified Newton that ran out of iterations while still converging leaves a better start than the
+            // prediction; after divergence (or a non-finite state) start again from the prediction.
+            bool progressed = corrector.Reason == CutReason.MaxIterations && double.IsFinite(corrector.ResidualNorm) && corrector.ResidualNorm < firstResidual;
+            if (!progressed) Predict(t, lo, hi, u, dU, out lambda, out dLam);
+        }
+        _factored = null;
+        var full = corrector.Correct(u, ref lambda, dU, ref dLam, c, controls.MaxIterations, tolerance, ct);
+        return full == CorrectorOutcome.Converged;
     }
 
-    /// <summary>Secant predictor: the point at fraction t of the chord from a to b.</summary>
-    private void Predict(double t, double[] ua, double lambdaA, double[] d, double dl, double[] u, double[] dU, out double lambda, out double dLam)
+    /// <summary>
+    /// Predictor: linear interpolation between the bracket's end states, which lie on the hyperplanes at t_lo and t_hi,
+    /// so the prediction lies on the hyperplane at t. The increment dU is measured from u_lo.
+    /// </summary>
+    private void Predict(double t, State lo, State hi, double[] u, double[] dU, out double lambda, out double dLam)
     {
-        Array.Copy(ua, u, ua.Length);
-        for (int e = 0; e < dU.Length; e++) dU[e] = t * d[e];
-        sys.AddFree(u, dU);
-        lambda = lambdaA + t * dl;
-        dLam = t * dl;
+        double f = (t - lo.T) / (hi.T - lo.T);
+        for (int i = 0; i < u.Length; i++) u[i] = lo.U[i] + f * (hi.U[i] - lo.U[i]);
+        var fullOf = sys.Model.Dofs.FullOf;
+        for (int e = 0; e < dU.Length; e++) dU[e] = u[fullOf[e]] - lo.U[fullOf[e]];
+        lambda = lo.Lambda + f * (hi.Lambda - lo.Lambda);
+        dLam = lambda - lo.Lambda;
     }
 }
