@@ -17,11 +17,15 @@ public sealed record LinearStaticResult(double LoadFactor, double[] Displacement
 public static class LinearStaticAnalysis
 {
     public static LinearStaticResult Run(StructuralModel model, double loadFactor = 1.0, bool includeConstant = true,
-        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic)
+        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken ct = default)
     {
+        // The token is checked between the expensive parts (ordering, factorisation); it throws OperationCanceledException.
+        ct.ThrowIfCancellationRequested();
         var sys = new Continuation.EquilibriumSystem(model, tinyPivotRatio, ordering);
         var u0 = new double[3 * model.NodeCount];
+        ct.ThrowIfCancellationRequested();
         var status = sys.Refactor(u0);
+        ct.ThrowIfCancellationRequested();
         MechanismDetector.ThrowIfSingular(sys, status);
         return Solve(model, sys, loadFactor, includeConstant, withPrescribed: true);
     }

@@ -25,6 +25,7 @@ public sealed class PathServiceTelemetry
     public Counter<long> Divergences { get; }
     public Counter<long> CriticalPoints { get; }
     public Histogram<double> FactorizationTime { get; }
+    public Counter<long> StalledWrites { get; }
 
     public PathServiceTelemetry(IMeterFactory factory)
     {
@@ -41,5 +42,6 @@ public sealed class PathServiceTelemetry
         CriticalPoints = meter.CreateCounter<long>("pathservice.critical_points", "{point}", "Critical points located (tag kind).");
         FactorizationTime = meter.CreateHistogram<double>("pathservice.factorization.time", "s", "Time spent factorising the tangent stiffness, per trace.",
             advice: new InstrumentAdvice<double> { HistogramBucketBoundaries = [0.001, 0.005, 0.01, 0.05, 0.1, 0.5, 1, 5, 10, 30, 60, 300, 600] });
+        StalledWrites = meter.CreateCounter<long>("pathservice.writes.stalled", "{write}", "Streamed responses the caller did not accept in time; the call was ended (tag rpc).");
     }
 }

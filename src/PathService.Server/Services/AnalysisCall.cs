@@ -1,0 +1,120 @@
+using Grpc.AspNetCore.Server;
+using Grpc.Core;
+using PathService.Server.Telemetry;
+
+namespace PathService.Server.Services;
+
+/// <summary>
+/// What an analysis gets once it holds its slot: one token that the caller's cancellation or deadline, the end of a
+/// shutdown's grace period and the call's own time bound all cancel, and a way to write responses that cannot hold the
+/// slot beyond that bound. The time bound is the analysis's time limit (the trace's wall-time limit, the sweep's time
+/// limit, the server's cap) plus a short grace, so that an analysis that stops itself at its limit can still deliver
+/// its last message; it counts from the moment the slot is taken and includes time spent waiting for the caller.
+/// </summary>
+public sealed class AnalysisCall : IDisposable
+{
+    private readonly ServerCallContext _context;
+    private readonly CancellationToken _shutdown;
+    private readonly PathServiceTelemetry _telemetry;
+    private readonly string _rpc;
+    private readonly CancellationTokenSource _bound = new();
+    private readonly CancellationTokenSource _token;
+    private readonly CancellationTokenSource _stall;
+    private readonly TimeSpan _stalledWriteLimit;
+    private readonly long _started = System.Diagnostics.Stopwatch.GetTimestamp();
+
+    /// <param name="limit">Time limit of the analysis (null = none: only the caller and shutdown end it).</param>
+    /// <param name="stalledWriteLimit">Longest wait for the caller to accept one response (zero or less = only the time bound).</param>
+    public AnalysisCall(string rpc, ServerCallContext context, CancellationToken abort, CancellationToken shutdown, TimeSpan? limit,
+        TimeSpan stalledWriteLimit, PathServiceTelemetry telemetry)
+    {
+        _rpc = rpc;
+        _context = context;
+        _shutdown = shutdown;
+        _telemetry = telemetry;
+        _stalledWriteLimit = stalledWriteLimit > TimeSpan.Zero ? stalledWriteLimit : Timeout.InfiniteTimeSpan;
+        Limit = limit;
+        if (limit is { } l)
+        {
+            Bound = l + Grace(l);
+            _bound.CancelAfter(Bound.Value);
+        }
+        _token = CancellationTokenSource.CreateLinkedTokenSource(abort, _bound.Token);
+        _stall = CancellationTokenSource.CreateLinkedTokenSource(shutdown, _bound.Token);
+    }
+
+    /// <summary>Grace beyond the time limit: 5 % of it, between 1 s and 5 s.</summary>
+    public static TimeSpan Grace(TimeSpan limit) => TimeSpan.FromSeconds(Math.Clamp(0.05 * limit.TotalSeconds, 1, 5));
+
+    /// <summary>Cancelled by the caller, a shutdown's end of grace, or the time bound.</summary>
+    public CancellationToken Token => _token.Token;
+
+    /// <summary>The analysis's time limit; null when it has none.</summary>
+    public TimeSpan? Limit { get; }
+
+    /// <summary>Limit plus grace: the latest moment the call may still hold its slot.</summary>
+    public TimeSpan? Bound { get; }
+
+    /// <summary>What is left of the time limit (null when there is none): the limit the engine should still work to.</summary>
+    public TimeSpan? Remaining => Limit is { } l ? l - System.Diagnostics.Stopwatch.GetElapsedTime(_started) : null;
+
+    /// <summary>True once the time bound has passed.</summary>
+    public bool TimeBoundReached => _bound.IsCancellationRequested;
+
+    /// <summary>The status of a call ended by its time bound.</summary>
+    public RpcException Exceeded(string what) => new(new Status(StatusCode.DeadlineExceeded,
+        $"{what} exceeded its time limit of {Limit?.TotalSeconds:G4} s and was stopped"));
+
+    /// <summary>
+    /// Writes one response. A write completes when the transport accepts it; a caller that stops reading blocks it
+    /// under HTTP/2 flow control. When the time bound passes, the shutdown's grace ends, or the write waits longer than
+    /// the stalled-write limit, the call is aborted (the HTTP/2 stream is reset) so that the slot is released, the
+    /// stalled write is counted (<c>pathservice.writes.stalled</c>) and an <see cref="RpcException"/> ends the analysis.
+    /// </summary>
+    public async Task WriteAsync<T>(IServerStreamWriter<T> stream, T message)
+    {
+        // The write obeys the caller's own token only: cancelling a pending write for a server-side reason would make
+        // grpc-dotnet reset the stream without the status the caller should see.
+        var write = stream.WriteAsync(message, _context.CancellationToken);
+        if (write.IsCompleted) { await write; return; }
+        try
+        {
+            await write.WaitAsync(_stalledWriteLimit, _stall.Token);
+            return;
+        }
+        catch (Exception ex) when (ex is TimeoutException || (ex is OperationCanceledException && _stall.IsCancellationRequested && !_context.CancellationToken.IsCancellationRequested))
+        {
+            _telemetry.StalledWrites.Add(1, new KeyValuePair<string, object?>("rpc", _rpc));
+            // The write stays pending until the stream is reset; observe its failure so it is not reported as unobserved.
+            _ = write.ContinueWith(static t => _ = t.Exception, CancellationToken.None, TaskContinuationOptions.OnlyOnFaulted | TaskContinuationOptions.ExecuteSynchronously, TaskScheduler.Default);
+            _token.Cancel();
+            Abort();
+            // Resetting the stream cancels the call's token, which completes the pending write; wait for that (briefly)
+            // so that the write's cancellation callback runs while the request is still alive.
+            await Task.WhenAny(write, Task.Delay(TimeSpan.FromSeconds(2))).ConfigureAwait(false);
+            if (_shutdown.IsCancellationRequested)
+                throw new RpcException(new Status(StatusCode.Unavailable, "the server shut down while the caller was not reading; retry on another instance"));
+            if (ex is TimeoutException)
+                throw new RpcException(new Status(StatusCode.Aborted, $"the caller stopped reading: a response waited {_stalledWriteLimit.TotalSeconds:G4} s to be accepted, so the call was ended"));
+            throw new RpcException(new Status(StatusCode.DeadlineExceeded,
+                $"the caller stopped reading and the call reached its time limit of {Limit?.TotalSeconds:G4} s, so it was ended"));
+        }
+    }
+
+    /// <summary>Resets the HTTP/2 stream; outside a real HTTP call (in-process tests) there is nothing to reset.</summary>
+    private void Abort()
+    {
+        try { _context.GetHttpContext().Abort(); }
+        catch (InvalidOperationException) { }
+    }
+
+    public void Dispose()
+    {
+        _stall.Dispose();
+        _token.Dispose();
+        _bound.Dispose();
+    }
+}
+
+/// <summary>An analysis ready to run once it holds a slot, with its time limit (null = none).</summary>
+public sealed record PreparedAnalysis(Func<AnalysisCall, Task<string>> Run, TimeSpan? TimeLimit);
