@@ -14,23 +14,20 @@ namespace PathService.Server.Services;
 public sealed class AnalysisCall : IDisposable
 {
     private readonly ServerCallContext _context;
-    private readonly CancellationToken _shutdown;
     private readonly PathServiceTelemetry _telemetry;
     private readonly string _rpc;
     private readonly CancellationTokenSource _bound = new();
     private readonly CancellationTokenSource _token;
-    private readonly CancellationTokenSource _stall;
     private readonly TimeSpan _stalledWriteLimit;
     private readonly long _started = System.Diagnostics.Stopwatch.GetTimestamp();
 
     /// <param name="limit">Time limit of the analysis (null = none: only the caller and shutdown end it).</param>
     /// <param name="stalledWriteLimit">Longest wait for the caller to accept one response (zero or less = only the time bound).</param>
-    public AnalysisCall(string rpc, ServerCallContext context, CancellationToken abort, CancellationToken shutdown, TimeSpan? limit,
+    public AnalysisCall(string rpc, ServerCallContext context, CancellationToken abort, TimeSpan? limit,
         TimeSpan stalledWriteLimit, PathServiceTelemetry telemetry)
     {
         _rpc = rpc;
         _context = context;
-        _shutdown = shutdown;
         _telemetry = telemetry;
         _stalledWriteLimit = stalledWriteLimit > TimeSpan.Zero ? stalledWriteLimit : Timeout.InfiniteTimeSpan;
         Limit = limit;
@@ -40,7 +37,6 @@ public sealed class AnalysisCall : IDisposable
             _bound.CancelAfter(Bound.Value);
         }
         _token = CancellationTokenSource.CreateLinkedTokenSource(abort, _bound.Token);
-        _stall = CancellationTokenSource.CreateLinkedTokenSource(shutdown, _bound.Token);
     }
 
     /// <summary>Grace beyond the time limit: 5 % of it, between 1 s and 5 s.</summary>
@@ -67,9 +63,12 @@ public sealed class AnalysisCall : IDisposable
 
     /// <summary>
     /// Writes one response. A write completes when the transport accepts it; a caller that stops reading blocks it
-    /// under HTTP/2 flow control. When the time bound passes, the shutdown's grace ends, or the write waits longer than
-    /// the stalled-write limit, the call is aborted (the HTTP/2 stream is reset) so that the slot is released, the
-    /// stalled write is counted (<c>pathservice.writes.stalled</c>) and an <see cref="RpcException"/> ends the analysis.
+    /// under HTTP/2 flow control. When the time bound passes or the write waits longer than the stalled-write limit,
+    /// and the write still does not complete within a short moment (a client that reads clears a pending write in
+    /// milliseconds), the caller is taken to have stalled: the call is aborted (the HTTP/2 stream is reset) so that the
+    /// slot is released, the stalled write is counted (<c>pathservice.writes.stalled</c>) and an
+    /// <see cref="RpcException"/> ends the analysis. A shutdown does not cut writes: the caller still gets its status
+    /// (UNAVAILABLE), and the host's shutdown timeout ends whatever is left.
     /// </summary>
     public async Task WriteAsync<T>(IServerStreamWriter<T> stream, T message)
     {
@@ -77,29 +76,36 @@ public sealed class AnalysisCall : IDisposable
         // grpc-dotnet reset the stream without the status the caller should see.
         var write = stream.WriteAsync(message, _context.CancellationToken);
         if (write.IsCompleted) { await write; return; }
+        bool timedOut;
         try
         {
-            await write.WaitAsync(_stalledWriteLimit, _stall.Token);
+            await write.WaitAsync(_stalledWriteLimit, _bound.Token);
             return;
         }
-        catch (Exception ex) when (ex is TimeoutException || (ex is OperationCanceledException && _stall.IsCancellationRequested && !_context.CancellationToken.IsCancellationRequested))
+        catch (TimeoutException) { timedOut = true; }
+        catch (OperationCanceledException) when (_bound.IsCancellationRequested && !_context.CancellationToken.IsCancellationRequested) { timedOut = false; }
+        try
         {
-            _telemetry.StalledWrites.Add(1, new KeyValuePair<string, object?>("rpc", _rpc));
-            // The write stays pending until the stream is reset; observe its failure so it is not reported as unobserved.
-            _ = write.ContinueWith(static t => _ = t.Exception, CancellationToken.None, TaskContinuationOptions.OnlyOnFaulted | TaskContinuationOptions.ExecuteSynchronously, TaskScheduler.Default);
-            _token.Cancel();
-            Abort();
-            // Resetting the stream cancels the call's token, which completes the pending write; wait for that (briefly)
-            // so that the write's cancellation callback runs while the request is still alive.
-            await Task.WhenAny(write, Task.Delay(TimeSpan.FromSeconds(2))).ConfigureAwait(false);
-            if (_shutdown.IsCancellationRequested)
-                throw new RpcException(new Status(StatusCode.Unavailable, "the server shut down while the caller was not reading; retry on another instance"));
-            if (ex is TimeoutException)
-                throw new RpcException(new Status(StatusCode.Aborted, $"the caller stopped reading: a response waited {_stalledWriteLimit.TotalSeconds:G4} s to be accepted, so the call was ended"));
-            throw new RpcException(new Status(StatusCode.DeadlineExceeded,
-                $"the caller stopped reading and the call reached its time limit of {Limit?.TotalSeconds:G4} s, so it was ended"));
+            await write.WaitAsync(StallConfirmation);
+            return; // the caller was reading after all; a time bound now ends the call with its status
         }
+        catch (TimeoutException) { }
+        _telemetry.StalledWrites.Add(1, new KeyValuePair<string, object?>("rpc", _rpc));
+        // The write stays pending until the stream is reset; observe its failure so it is not reported as unobserved.
+        _ = write.ContinueWith(static t => _ = t.Exception, CancellationToken.None, TaskContinuationOptions.OnlyOnFaulted | TaskContinuationOptions.ExecuteSynchronously, TaskScheduler.Default);
+        _token.Cancel();
+        Abort();
+        // Resetting the stream cancels the call's token, which completes the pending write; wait for that (briefly)
+        // so that the write's cancellation callback runs while the request is still alive.
+        await Task.WhenAny(write, Task.Delay(TimeSpan.FromSeconds(2))).ConfigureAwait(false);
+        if (timedOut)
+            throw new RpcException(new Status(StatusCode.Aborted, $"the caller stopped reading: a response waited {_stalledWriteLimit.TotalSeconds:G4} s to be accepted, so the call was ended"));
+        throw new RpcException(new Status(StatusCode.DeadlineExceeded,
+            $"the caller stopped reading and the call reached its time limit of {Limit?.TotalSeconds:G4} s, so it was ended"));
     }
+
+    /// <summary>How long a pending write may still take, once its limit has passed, before the caller counts as stalled.</summary>
+    public static readonly TimeSpan StallConfirmation = TimeSpan.FromMilliseconds(500);
 
     /// <summary>Resets the HTTP/2 stream; outside a real HTTP call (in-process tests) there is nothing to reset.</summary>
     private void Abort()
@@ -110,7 +116,6 @@ public sealed class AnalysisCall : IDisposable
 
     public void Dispose()
     {
-        _stall.Dispose();
         _token.Dispose();
         _bound.Dispose();
     }

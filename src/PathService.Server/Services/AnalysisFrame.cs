@@ -65,7 +65,7 @@ public sealed class AnalysisFrame(
             ThrowIfDraining();
             telemetry.AnalysesActive.Add(1);
             string outcome;
-            using var call = new AnalysisCall(rpc, context, abort.Token, shutdown.AbortToken, run.TimeLimit,
+            using var call = new AnalysisCall(rpc, context, abort.Token, run.TimeLimit,
                 TimeSpan.FromSeconds(limits.Values.StalledWriteSeconds), telemetry);
             try { outcome = await run.Run(call); }
             catch (OperationCanceledException) when (call.TimeBoundReached && !abort.IsCancellationRequested)
