@@ -18,6 +18,8 @@ public static class AnalysisMemory
     /// <summary>Result of an estimate; <see cref="Exact"/> tells whether the symbolic analysis was run.</summary>
     public readonly record struct Estimate(long Bytes, long FactorEntries, bool Exact);
 
+    /// <param name="model">The model to analyse.</param>
+    /// <param name="budgetBytes">The budget: the symbolic analysis runs only when the cheap bound exceeds it (0 or less = never).</param>
     /// <param name="extraVectors">Dense work vectors of length "free DOFs" the analysis keeps besides the usual ones (e.g. a buckling subspace).</param>
     /// <param name="ct">Checked before and after the symbolic analysis (which only runs when the cheap bound exceeds the budget).</param>
     public static Estimate Of(StructuralModel model, long budgetBytes, int extraVectors = 0, CancellationToken ct = default)

@@ -21,23 +21,30 @@ public sealed class AnalysisCall : IDisposable
     private readonly TimeSpan _stalledWriteLimit;
     private readonly long _started = System.Diagnostics.Stopwatch.GetTimestamp();
 
+    /// <param name="rpc">Name of the RPC, the tag of the stalled-write counter.</param>
+    /// <param name="context">The call.</param>
+    /// <param name="abort">Cancelled by the caller (cancellation, deadline) and by the end of a shutdown's grace period.</param>
     /// <param name="limit">Time limit of the analysis (null = none: only the caller and shutdown end it).</param>
     /// <param name="stalledWriteLimit">Longest wait for the caller to accept one response (zero or less = only the time bound).</param>
+    /// <param name="telemetry">Where stalled writes are counted.</param>
     public AnalysisCall(string rpc, ServerCallContext context, CancellationToken abort, TimeSpan? limit,
         TimeSpan stalledWriteLimit, PathServiceTelemetry telemetry)
     {
         _rpc = rpc;
         _context = context;
         _telemetry = telemetry;
-        _stalledWriteLimit = stalledWriteLimit > TimeSpan.Zero ? stalledWriteLimit : Timeout.InfiniteTimeSpan;
+        // Timers take at most about 49 days; a longer limit is no limit in practice.
+        _stalledWriteLimit = stalledWriteLimit > TimeSpan.Zero && stalledWriteLimit < MaxTimer ? stalledWriteLimit : Timeout.InfiniteTimeSpan;
         Limit = limit;
-        if (limit is { } l)
+        if (limit is { } l && l < MaxTimer)
         {
             Bound = l + Grace(l);
             _bound.CancelAfter(Bound.Value);
         }
         _token = CancellationTokenSource.CreateLinkedTokenSource(abort, _bound.Token);
     }
+
+    private static readonly TimeSpan MaxTimer = TimeSpan.FromDays(40);
 
     /// <summary>Grace beyond the time limit: 5 % of it, between 1 s and 5 s.</summary>
     public static TimeSpan Grace(TimeSpan limit) => TimeSpan.FromSeconds(Math.Clamp(0.05 * limit.TotalSeconds, 1, 5));

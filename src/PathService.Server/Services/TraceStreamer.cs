@@ -30,6 +30,12 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
     private const int ChannelCapacity = 32;
 
     /// <summary>Streams the trace; returns the engine's summary (null when the call was cancelled before it).</summary>
+    /// <param name="model">The model as validated (perfect, when an imperfection is shaped by <paramref name="prepare"/>).</param>
+    /// <param name="controls">The engine's controls.</param>
+    /// <param name="stream">The caller's response stream.</param>
+    /// <param name="call">The call's token, time bound and bounded writes.</param>
+    /// <param name="fingerprint">The request's fingerprint, set on the summary.</param>
+    /// <param name="engineVersion">The engine's version, set on the summary.</param>
     /// <param name="prepare">Heavy preparation of the model (e.g. shaping an imperfection) run on the compute thread before tracing; null = none.</param>
     /// <exception cref="ModelValidationException">Invalid controls (before anything is streamed).</exception>
     /// <exception cref="MechanismException">Singular start (before anything is streamed).</exception>
