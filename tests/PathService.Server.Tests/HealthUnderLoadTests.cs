@@ -11,6 +11,9 @@ namespace PathService.Server.Tests;
 /// run on compute threads of their own, with helpers from the shared compute budget, not on the thread pool that serves
 /// Kestrel. The latency under load is a rate, measured by the load command (docs/reliability.md), not asserted here.
 /// </summary>
+// In the shared server's collection: the fixture's metric tests read process-wide meters, which these tests' long
+// analyses would otherwise disturb.
+[Collection(ServerCollection.Name)]
 public class HealthUnderLoadTests
 {
     [Fact]

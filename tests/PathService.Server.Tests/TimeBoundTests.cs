@@ -12,6 +12,9 @@ namespace PathService.Server.Tests;
 /// the call's time limit and its slot is freed; a sweep has one time limit; linear and buckling analyses obey the
 /// caller's deadline and the server's cap. Real Kestrel on loopback.
 /// </summary>
+// In the shared server's collection: the fixture's metric tests read process-wide meters, which these tests' long
+// analyses would otherwise disturb.
+[Collection(ServerCollection.Name)]
 public class TimeBoundTests(Xunit.Abstractions.ITestOutputHelper output)
 {
     /// <summary>Counts pathservice.writes.stalled in this process (every server of the test run reports to it).</summary>
