@@ -109,7 +109,8 @@ internal sealed class GrpcBackend : IAnalysisBackend
         public string? Difference(TracePathResponse r)
         {
             if (r.UpdateCase != Case) return $"expected a {Case} message, got a {r.UpdateCase}";
-            if (Case != TracePathResponse.UpdateOneofCase.Point) return r.ToByteString().Equals(Bytes) ? null : $"the {Case} message differs";
+            if (Case != TracePathResponse.UpdateOneofCase.Point)
+                return r.ToByteString().Equals(Bytes) ? null : MessageDiff.First(r, TracePathResponse.Parser.ParseFrom(Bytes)) ?? $"the {Case} message differs";
             var p = r.Point;
             if (p.Index != Index) return $"expected point {Index}, got point {p.Index}";
             if (BitConverter.DoubleToInt64Bits(p.LoadFactor) != LoadFactorBits)

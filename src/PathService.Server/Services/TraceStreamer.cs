@@ -99,6 +99,10 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
         {
             foreach (var e in events)
             {
+                // Once the analysis is being stopped, whatever the engine still yields may have been cut short (a
+                // critical point whose location was interrupted): only the summary goes on. A restarted trace must
+                // repeat the stream exactly, and clients compare it bit for bit.
+                if (ct.IsCancellationRequested && e is not PathSummary) continue;
                 Record(e, activity);
                 if (e is PathSummary s) summary = s;
                 var message = mapper.ToResponse(e);
