@@ -18,9 +18,12 @@ using PathService.Server.Tests.Fixtures;
 // By default it starts the server itself as a child process (dotnet PathService.Server.dll, loopback, free ports), so
 // that the memory figures are the server's alone. --in-process hosts it in this process instead; --server URL drives
 // an already running server (loopback only), --metrics URL then names its HTTP/1.1 port for the memory figures.
+// Throughout the run a probe on a connection of its own asks grpc.health.v1 Health/Check every --health-every ms
+// (default 100) and the latency percentiles are printed: health must stay responsive while every slot computes.
 //
 // Usage: dotnet run -c Release --project bench/PathService.Load -- [--concurrency 4] [--duration 30] [--model truss|capN]
 //        [--points 40] [--report 60] [--max-calls 1000000] [--slots N] [--api-key KEY] [--server URL] [--metrics URL] [--in-process]
+//        [--health-every 100]
 var opt = Options.Parse(args);
 var clock = Stopwatch.StartNew();
 await using var server = await Server.StartAsync(opt);
@@ -51,6 +54,26 @@ var report = Task.Run(async () =>
         Console.WriteLine($"[{t0.Elapsed.TotalSeconds,6:0} s] traces {stats.Completed}, errors {stats.ErrorCount}, memory {await server.MemoryAsync()}");
     }
 });
+// Health probe on its own connection (a channel of its own opens its own HTTP/2 connection).
+using var healthChannel = GrpcChannel.ForAddress(server.GrpcUrl);
+var healthClient = new Health.HealthClient(healthChannel);
+var healthMs = new List<double>();
+int healthFailures = 0;
+var probe = Task.Run(async () =>
+{
+    while (DateTime.UtcNow < end)
+    {
+        var t = Stopwatch.StartNew();
+        try
+        {
+            var h = await healthClient.CheckAsync(new HealthCheckRequest(), deadline: DateTime.UtcNow.AddSeconds(10));
+            if (h.Status != HealthCheckResponse.Types.ServingStatus.Serving) Interlocked.Increment(ref healthFailures);
+            lock (healthMs) healthMs.Add(t.Elapsed.TotalMilliseconds);
+        }
+        catch (RpcException) { Interlocked.Increment(ref healthFailures); }
+        await Task.Delay(opt.HealthEvery);
+    }
+});
 var runClock = Stopwatch.StartNew();
 var workers = Enumerable.Range(0, opt.Concurrency).Select(_ => Task.Run(async () =>
 {
@@ -72,6 +95,7 @@ var workers = Enumerable.Range(0, opt.Concurrency).Select(_ => Task.Run(async ()
 await Task.WhenAll(workers);
 double seconds = runClock.Elapsed.TotalSeconds;
 await report;
+await probe;
 
 var afterNoGc = await server.MemoryAsync();
 await server.ForceGcAsync();
@@ -81,6 +105,7 @@ Console.WriteLine($"traces completed      {stats.Completed} in {seconds:0.0} s  
 Console.WriteLine($"sustained concurrency {opt.Concurrency} streams");
 Console.WriteLine($"trace time (ms)       {stats.Percentiles(stats.TraceMs)}");
 Console.WriteLine($"first point (ms)      {stats.Percentiles(stats.FirstPointMs)}");
+Console.WriteLine($"health check (ms)     {stats.Percentiles(healthMs)}, not serving or failed {healthFailures}");
 Console.WriteLine($"errors                {(stats.ErrorCount == 0 ? "none" : string.Join(", ", stats.Errors.OrderBy(e => e.Key).Select(e => $"{e.Key} {e.Value}")))}");
 Console.WriteLine($"memory at start       {before}");
 Console.WriteLine($"memory at end         {afterNoGc}  (before a forced GC)");
@@ -89,7 +114,7 @@ Console.WriteLine($"wall time             {clock.Elapsed.TotalSeconds:0.0} s");
 return stats.ErrorCount == 0 ? 0 : 1;
 
 sealed record Options(int Concurrency, TimeSpan Duration, string Model, int Points, TimeSpan Report, long MaxCalls,
-    int? Slots, string? ApiKey, string? ServerUrl, string? MetricsUrl, bool InProcess)
+    int? Slots, string? ApiKey, string? ServerUrl, string? MetricsUrl, bool InProcess, TimeSpan HealthEvery)
 {
     public static Options Parse(string[] a)
     {
@@ -104,7 +129,8 @@ sealed record Options(int Concurrency, TimeSpan Duration, string Model, int Poin
             Math.Clamp(concurrency, 1, 256), TimeSpan.FromSeconds(Math.Clamp(D("--duration", 30), 1, 24 * 3600)),
             Get("--model") ?? "truss", Math.Clamp((int)D("--points", 40), 1, 5000), TimeSpan.FromSeconds(Math.Max(1, D("--report", 60))),
             Math.Max(1, (long)D("--max-calls", 1_000_000)), Get("--slots") is { } s ? int.Parse(s, CultureInfo.InvariantCulture) : null,
-            Get("--api-key"), Get("--server"), Get("--metrics"), a.Contains("--in-process"));
+            Get("--api-key"), Get("--server"), Get("--metrics"), a.Contains("--in-process"),
+            TimeSpan.FromMilliseconds(Math.Clamp(D("--health-every", 100), 10, 60_000)));
         foreach (var url in new[] { o.ServerUrl, o.MetricsUrl })
             if (url is not null && !IsLoopback(new Uri(url)))
                 throw new ArgumentException($"{url}: the load command drives loopback servers only");

@@ -18,7 +18,9 @@ commands
 
 where analyses run
   (default)                  in this process, no server needed
-  --server URL[,URL...]      on PathService over gRPC; several URLs are balanced round-robin
+  --server URL[,URL...]      on PathService over gRPC; several URLs are used round-robin
+  --api-key KEY              API key of a secured server (default: environment variable PATHSERVICE_API_KEY)
+  --ca-file F                trust server certificates issued by this CA (PEM or DER) for https:// URLs
 
 outputs of trace/demo
   --out DIR                  path.csv, path.jsonl, summary.json, curve.svg, shape.svg in DIR
@@ -27,7 +29,8 @@ outputs of trace/demo
   --shape-at I --shape-scale S   point (needs its full state) and scale of the deformed shape
   --quiet                    no live lines
 
-exit codes: 0 success, 1 usage, 2 invalid input, 3 target not reached, 4 server unavailable, 5 some batch models failed
+exit codes: 0 success, 1 usage, 2 invalid input, 3 target not reached, 4 server unavailable, 5 some batch models failed,
+            6 authentication failed, 7 refused by the server's limits, 8 restarted trace differs from the points received
 """;
 
 using var cts = new CancellationTokenSource();
@@ -36,7 +39,7 @@ try
 {
     var o = Options.Parse(args);
     if (o.Command is "help" or "--help" or "-h" || o.Has("help")) { Console.WriteLine(Usage); return ExitCodes.Success; }
-    await using IAnalysisBackend backend = o.Get("server") is { } server ? new GrpcBackend(server) : new InProcessBackend();
+    await using IAnalysisBackend backend = o.Get("server") is { } server ? new GrpcBackend(server, ConnectionSettings.From(o)) : new InProcessBackend();
     switch (o.Command)
     {
         case "demo":
@@ -60,8 +63,10 @@ catch (AnalysisRejectedException ex)
 {
     Console.Error.WriteLine($"pathtrace: {ex.Message}");
     foreach (var f in ex.Findings) Console.Error.WriteLine($"  {f.Field} {f.ItemId}: {f.Message}");
-    return ex.ResourceLimit ? ExitCodes.ServerUnavailable : ExitCodes.InvalidInput;
+    return ex.ResourceLimit ? ExitCodes.RefusedByLimits : ExitCodes.InvalidInput;
 }
+catch (AuthenticationFailedException ex) { Console.Error.WriteLine($"pathtrace: authentication failed: {ex.Message}"); return ExitCodes.AuthenticationFailed; }
+catch (ReplayMismatchException ex) { Console.Error.WriteLine($"pathtrace: RESULTS DISAGREE: {ex.Message}"); return ExitCodes.ReplayMismatch; }
 catch (BackendUnavailableException ex) { Console.Error.WriteLine($"pathtrace: server unavailable: {ex.Message}"); return ExitCodes.ServerUnavailable; }
 catch (Grpc.Core.RpcException ex) { Console.Error.WriteLine($"pathtrace: server unavailable: {ex.Status.Detail}"); return ExitCodes.ServerUnavailable; }
 catch (HttpRequestException ex) { Console.Error.WriteLine($"pathtrace: server unavailable: {ex.Message}"); return ExitCodes.ServerUnavailable; }

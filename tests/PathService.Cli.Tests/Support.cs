@@ -37,9 +37,15 @@ internal static class Pathtrace
         return File.Exists(path) ? path : throw new FileNotFoundException("pathtrace is not built", path);
     }
 
-    public static async Task<(int Code, string Stdout, string Stderr)> RunAsync(string workDir, params string[] args)
+    public static Task<(int Code, string Stdout, string Stderr)> RunAsync(string workDir, params string[] args) =>
+        RunWithEnvironmentAsync(workDir, new Dictionary<string, string>(), args);
+
+    /// <summary>Runs pathtrace with extra environment variables (e.g. PATHSERVICE_API_KEY).</summary>
+    public static async Task<(int Code, string Stdout, string Stderr)> RunWithEnvironmentAsync(string workDir, IReadOnlyDictionary<string, string> environment, params string[] args)
     {
         var psi = new ProcessStartInfo("dotnet") { WorkingDirectory = workDir, RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
+        psi.Environment.Remove("PATHSERVICE_API_KEY");
+        foreach (var (k, v) in environment) psi.Environment[k] = v;
         psi.ArgumentList.Add(Dll);
         foreach (var a in args) psi.ArgumentList.Add(a);
         using var p = Process.Start(psi)!;
@@ -65,16 +71,23 @@ internal sealed class ServerInstance : IAsyncDisposable
         App = app;
         _calls = calls;
         var ep = app.Services.GetRequiredService<BoundEndpoints>();
-        GrpcUrl = BoundEndpoints.UrlOf(ep.Grpc!);
-        HttpUrl = BoundEndpoints.UrlOf(ep.Http!);
+        GrpcUrl = BoundEndpoints.UrlOf(ep.Grpc!, ep.Tls);
+        HttpUrl = BoundEndpoints.UrlOf(ep.Http!, ep.Tls);
     }
 
-    public static async Task<ServerInstance> StartAsync(int slots)
+    /// <param name="settings">Extra configuration keys below "PathService", e.g. "Limits:MaxNodes=2".</param>
+    /// <param name="customize">Extra services (e.g. a gRPC interceptor) before the build.</param>
+    public static async Task<ServerInstance> StartAsync(int slots, IEnumerable<string>? settings = null, Action<WebApplicationBuilder>? customize = null)
     {
         var calls = new CallCounter();
         var app = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
-            $"--PathService:Limits:MaxConcurrentAnalyses={slots}", "--Serilog:MinimumLevel:Default=Warning"],
-            b => b.Services.AddSingleton<Microsoft.AspNetCore.Hosting.IStartupFilter>(new CountingFilter(calls)));
+            $"--PathService:Limits:MaxConcurrentAnalyses={slots}", "--Serilog:MinimumLevel:Default=Warning",
+            .. (settings ?? []).Select(s => "--PathService:" + s)],
+            b =>
+            {
+                b.Services.AddSingleton<Microsoft.AspNetCore.Hosting.IStartupFilter>(new CountingFilter(calls));
+                customize?.Invoke(b);
+            });
         await app.StartAsync();
         return new ServerInstance(app, calls);
     }
@@ -102,6 +115,9 @@ internal sealed class ServerInstance : IAsyncDisposable
     }
 
     public int ActiveAnalyses => App.Services.GetRequiredService<PathService.Server.Limits.AnalysisGate>().Active;
+
+    /// <summary>Begins a shutdown's draining without stopping: health reports NOT_SERVING, new analyses get UNAVAILABLE.</summary>
+    public Task DrainAsync() => App.Services.GetRequiredService<ShutdownCoordinator>().StoppingAsync(CancellationToken.None);
 
     /// <summary>Stops at once, as a killed pod does: open calls are aborted, not drained.</summary>
     public async Task KillAsync()

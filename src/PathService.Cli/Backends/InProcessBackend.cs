@@ -19,6 +19,7 @@ internal sealed class InProcessBackend : IAnalysisBackend
         {
             try { model = StructuralModel.Create(ImperfectionMapper.Apply(model.Definition, request.Imperfection)); }
             catch (ModelValidationException ex) { throw Rejected(ex); }
+            catch (PathService.Engine.AnalysisInputException ex) { throw Input(ex); }
         }
         var mapper = new ResultMapper(model, controls.Monitored);
         IEnumerator<PathEvent> events;
@@ -57,6 +58,7 @@ internal sealed class InProcessBackend : IAnalysisBackend
             return Task.FromResult(response);
         }
         catch (MechanismException ex) { throw Mechanism(ex); }
+        catch (PathService.Engine.AnalysisInputException ex) { throw Input(ex); }
     }
 
     public Task<FindBucklingModesResponse> BucklingAsync(FindBucklingModesRequest request, CancellationToken ct)
@@ -71,7 +73,7 @@ internal sealed class InProcessBackend : IAnalysisBackend
             return Task.FromResult(response);
         }
         catch (MechanismException ex) { throw Mechanism(ex); }
-        catch (InvalidOperationException ex) { throw new AnalysisRejectedException(ex.Message, []); }
+        catch (PathService.Engine.AnalysisInputException ex) { throw Input(ex); }
     }
 
     public async IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, [EnumeratorCancellation] CancellationToken ct)
@@ -87,6 +89,7 @@ internal sealed class InProcessBackend : IAnalysisBackend
             amplitudes = request.Amplitudes.Select((a, i) => ImperfectionMapper.ToLength(def, request.Imperfection, a, $"amplitudes[{i}]")).ToList();
         }
         catch (ModelValidationException ex) { throw Rejected(ex); }
+        catch (PathService.Engine.AnalysisInputException ex) { throw Input(ex); }
         using var events = Engine.Stability.ImperfectionSweep.Run(def, controls, shapes, weights, amplitudes, ct).GetEnumerator();
         while (await Task.Run(events.MoveNext, CancellationToken.None))
             yield return ResultMapper.ToSweepResponse(events.Current);
@@ -109,6 +112,10 @@ internal sealed class InProcessBackend : IAnalysisBackend
 
     private static AnalysisRejectedException Rejected(ModelValidationException ex) =>
         new($"the request is invalid ({ex.Findings.Count} finding(s))", ex.Findings.Select(ResultMapper.ToFinding).ToList());
+
+    /// <summary>An input fault found while computing (no buckling mode, zero shape, an active set that cannot settle): its reason and field, as the server gives them.</summary>
+    private static AnalysisRejectedException Input(PathService.Engine.AnalysisInputException ex) =>
+        new(ex.Message, [new Finding { Severity = Contracts.V1.FindingSeverity.Error, Code = ex.Reason, Field = ex.Field, Message = ex.Message }]);
 
     private static AnalysisRejectedException Mechanism(MechanismException ex) =>
         new(ex.Message, [new Finding { Severity = Contracts.V1.FindingSeverity.Error, Code = "MECHANISM", Field = "model", ItemId = ex.NodeId, Message = ex.Message }]);

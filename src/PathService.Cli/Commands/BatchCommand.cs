@@ -42,7 +42,11 @@ internal static class BatchCommand
         Console.Write(csv);
         Console.WriteLine($"wrote {output}");
         Console.WriteLine(Cautions.Short);
+        // The most telling failure decides the code: credentials, disagreeing instances, no server, refusals by limits.
+        if (rows.Any(r => r.Outcome == "unauthenticated")) return ExitCodes.AuthenticationFailed;
+        if (rows.Any(r => r.Outcome == "mismatch")) return ExitCodes.ReplayMismatch;
         if (rows.Any(r => r.Outcome == "unavailable")) return ExitCodes.ServerUnavailable;
+        if (rows.Any(r => r.Outcome == "refused")) return ExitCodes.RefusedByLimits;
         return rows.All(r => r.Outcome == "completed") ? ExitCodes.Success : ExitCodes.SomeFailed;
     }
 
@@ -61,6 +65,18 @@ internal static class BatchCommand
                 rec.Points.Count, s?.MaxLoadFactor ?? double.NaN, first?.LoadFactor,
                 first is null ? "" : first.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation",
                 rec.Criticals.Count, clock.Elapsed.TotalMilliseconds, "");
+        }
+        catch (AnalysisRejectedException ex) when (ex.ResourceLimit)
+        {
+            return new Row(name, "", "refused", "", 0, double.NaN, null, "", 0, clock.Elapsed.TotalMilliseconds, ex.Message);
+        }
+        catch (AuthenticationFailedException ex)
+        {
+            return new Row(name, "", "unauthenticated", "", 0, double.NaN, null, "", 0, clock.Elapsed.TotalMilliseconds, ex.Message);
+        }
+        catch (ReplayMismatchException ex)
+        {
+            return new Row(name, "", "mismatch", "", 0, double.NaN, null, "", 0, clock.Elapsed.TotalMilliseconds, ex.Message);
         }
         catch (Exception ex) when (ex is InputException or AnalysisRejectedException)
         {

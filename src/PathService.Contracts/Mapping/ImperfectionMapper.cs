@@ -15,15 +15,28 @@ public static class ImperfectionMapper
     public const int MaxModeNumber = 20;
 
     /// <summary>The perfect definition with the imperfection applied; unchanged when <paramref name="imperfection"/> is null.</summary>
-    public static ModelDefinition Apply(ModelDefinition perfect, Proto.Imperfection? imperfection)
+    public static ModelDefinition Apply(ModelDefinition perfect, Proto.Imperfection? imperfection, CancellationToken ct = default)
     {
         if (imperfection is null) return perfect;
-        var (shapes, weights) = Shapes(perfect, imperfection);
+        var (shapes, weights) = Shapes(perfect, imperfection, ct);
         return Imperfections.Apply(perfect, shapes, weights, ToLength(perfect, imperfection, imperfection.Amplitude, "imperfection.amplitude"));
     }
 
-    /// <summary>Shapes and weights; throws <see cref="ModelValidationException"/> naming the imperfection field at fault.</summary>
-    public static (IReadOnlyList<double[]> Shapes, IReadOnlyList<double> Weights) Shapes(ModelDefinition perfect, Proto.Imperfection imp)
+    /// <summary>
+    /// The checks of <see cref="Shapes"/> that need no analysis (mode numbers, shape nodes and values, weights), so a
+    /// server can refuse a bad imperfection before it queues for the buckling analysis that shapes a good one.
+    /// Throws <see cref="ModelValidationException"/> naming the imperfection field at fault.
+    /// </summary>
+    public static void Check(ModelDefinition perfect, Proto.Imperfection imp) => Shapes(perfect, imp, default, analyse: false);
+
+    /// <summary>
+    /// Shapes and weights; throws <see cref="ModelValidationException"/> naming the imperfection field at fault. Shaping
+    /// by buckling modes runs a linearised buckling analysis of the perfect model, which <paramref name="ct"/> cancels.
+    /// </summary>
+    public static (IReadOnlyList<double[]> Shapes, IReadOnlyList<double> Weights) Shapes(ModelDefinition perfect, Proto.Imperfection imp, CancellationToken ct = default) =>
+        Shapes(perfect, imp, ct, analyse: true);
+
+    private static (IReadOnlyList<double[]> Shapes, IReadOnlyList<double> Weights) Shapes(ModelDefinition perfect, Proto.Imperfection imp, CancellationToken ct, bool analyse)
     {
         var findings = new List<ValidationFinding>();
         void Bad(string field, string message) => findings.Add(new(FindingSeverity.Error, FindingCode.AbsurdMagnitude, field, null, message));
@@ -47,10 +60,10 @@ public static class ImperfectionMapper
             for (int i = 0; i < imp.BucklingModes.Count; i++)
                 if (imp.BucklingModes[i] < 1 || imp.BucklingModes[i] > MaxModeNumber)
                     Bad($"imperfection.buckling_modes[{i}]", $"buckling mode number {imp.BucklingModes[i]} is outside 1..{MaxModeNumber}");
-            if (findings.Count == 0)
+            if (findings.Count == 0 && analyse)
             {
                 LinearBucklingResult buckling;
-                try { buckling = LinearBucklingAnalysis.Run(StructuralModel.Create(perfect), imp.BucklingModes.Max()); }
+                try { buckling = LinearBucklingAnalysis.Run(StructuralModel.Create(perfect), imp.BucklingModes.Max(), ct: ct); }
                 catch (AnalysisInputException ex)
                 {
                     // The buckling step is input-dependent: name the imperfection field that asked for it.

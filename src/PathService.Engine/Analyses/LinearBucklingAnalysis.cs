@@ -18,14 +18,17 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 /// stresses under the reference load. The lowest positive μ are found by subspace iteration with Rayleigh-Ritz
 /// (K.-J. Bathe, "Finite Element Procedures", 1996, §11.6 (from memory)) on θ = 1/μ of −K_σ φ = θ K_A φ, using the sparse LDLᵀ of K_A.
 /// It ignores the change of geometry before buckling, which is why it can overestimate a snap-through load badly.
+/// Cancelling the token stops it within one solve with <see cref="OperationCanceledException"/>.
 /// </summary>
 public static class LinearBucklingAnalysis
 {
     public static LinearBucklingResult Run(StructuralModel model, int modeCount = 3, int maxIterations = 200, double tolerance = 1e-10,
-        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic)
+        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken ct = default)
     {
         if (modeCount < 1) throw new ArgumentOutOfRangeException(nameof(modeCount), "at least one mode must be requested");
+        ct.ThrowIfCancellationRequested();
         var sys = new EquilibriumSystem(model, tinyPivotRatio, ordering);
+        ct.ThrowIfCancellationRequested();
         var asm = sys.Assembler;
         int n = sys.FreeCount;
         var zero = new double[3 * model.NodeCount];
@@ -48,6 +51,7 @@ public static class LinearBucklingAnalysis
         var kS = new double[kA.Length];
         asm.Tangent(zero, kS, TangentParts.GeometricOnly, sRef);
         kA.CopyTo(sys.Values, 0);
+        ct.ThrowIfCancellationRequested();
         var status = sys.Factor.Factorize(sys.Values, tinyPivotRatio);
         if (status == LdlStatus.ZeroPivot || sys.Factor.NegativePivotCount > 0)
             throw new AnalysisInputException("UNSTABLE_START", "model", "the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
@@ -69,9 +73,10 @@ public static class LinearBucklingAnalysis
         int it;
         for (it = 1; it <= maxIterations; it++)
         {
-            // Y = K_A⁻¹ (−K_σ X)
+            // Y = K_A⁻¹ (−K_σ X); the caller's token is checked before each of the q solves.
             for (int j = 0; j < q; j++)
             {
+                ct.ThrowIfCancellationRequested();
                 for (int i = 0; i < n; i++) col[i] = X[i, j];
                 asm.Multiply(kS, col, bx);
                 for (int i = 0; i < n; i++) { bx[i] = -bx[i]; BX[i, j] = bx[i]; }

@@ -52,10 +52,13 @@ public static class LinearStaticAnalysis
         cancellationToken.ThrowIfCancellationRequested();
         var sys = new Continuation.EquilibriumSystem(model, tinyPivotRatio, ordering);
         var u0 = new double[3 * model.NodeCount];
+        // The token is checked between the expensive parts (ordering, factorisation); it throws OperationCanceledException.
+        cancellationToken.ThrowIfCancellationRequested();
         var oneSided = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehaviour[b] != Elements.BarBehaviour.Elastic).ToArray();
         if (oneSided.Length == 0)
         {
             var status = sys.Refactor(u0);
+            cancellationToken.ThrowIfCancellationRequested();
             MechanismDetector.ThrowIfSingular(sys, status);
             return Solve(model, sys, loadFactor, includeConstant, withPrescribed: true);
         }

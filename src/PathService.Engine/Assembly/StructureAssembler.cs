@@ -230,12 +230,10 @@ public sealed class StructureAssembler
         private Phase _phase;
         private double* _u, _out, _stress;
         private TangentParts _parts;
-        private int _participants;
 
         public void Begin(Phase phase, double* u, double* output, TangentParts parts, double* stress)
         {
             _phase = phase; _u = u; _out = output; _parts = parts; _stress = stress;
-            _participants = a._team.Threads;
         }
 
         private static (int Start, int End) Range(int count, int part, int parts) =>
@@ -245,12 +243,15 @@ public sealed class StructureAssembler
         {
             var m = a._m;
             int fullCount = 3 * m.NodeCount;
+            // The split follows the participants actually running (the budget may grant fewer than Threads); every
+            // entry is computed by the same operations whichever part it falls in.
+            int participants = a._team.Participants;
             var u = new ReadOnlySpan<double>(_u, fullCount);
             switch (_phase)
             {
                 case Phase.BarBlocks:
                 {
-                    var (b0, b1) = Range(m.BarCount, participant, _participants);
+                    var (b0, b1) = Range(m.BarCount, participant, participants);
                     var blocks = a._barBlock.AsSpan();
                     for (int b = b0; b < b1; b++)
                     {
@@ -271,7 +272,7 @@ public sealed class StructureAssembler
                 }
                 case Phase.GatherBlocks:
                 {
-                    var (q0, q1) = Range(a.Pattern.NonZeroCount, participant, _participants);
+                    var (q0, q1) = Range(a.Pattern.NonZeroCount, participant, participants);
                     int[] ptr = a._slotPtr, code = a._slotCode;
                     double[] blocks = a._barBlock;
                     for (int q = q0; q < q1; q++)
@@ -289,7 +290,7 @@ public sealed class StructureAssembler
                 }
                 case Phase.BarForces:
                 {
-                    var (b0, b1) = Range(m.BarCount, participant, _participants);
+                    var (b0, b1) = Range(m.BarCount, participant, participants);
                     double[] f = a._barForce;
                     for (int b = b0; b < b1; b++)
                     {
@@ -301,7 +302,7 @@ public sealed class StructureAssembler
                 }
                 case Phase.GatherForces:
                 {
-                    var (d0, d1) = Range(fullCount, participant, _participants);
+                    var (d0, d1) = Range(fullCount, participant, participants);
                     int[] ptr = a._dofPtr, code = a._dofCode;
                     double[] f = a._barForce;
                     for (int d = d0; d < d1; d++)

@@ -40,8 +40,9 @@ public sealed class PathTracer
 
     private IEnumerable<PathEvent> Run(CancellationToken ct)
     {
+        long started = System.Diagnostics.Stopwatch.GetTimestamp();
         var sys = new EquilibriumSystem(_model, _c.TinyPivotRatio, _ordering, BackwardErrorBound);
-        var s = new TraceSession(_model, _c, sys, ct);
+        var s = new TraceSession(_model, _c, sys, ct, started);
         int n = sys.FreeCount;
         var u = (double[])_model.PrescribedDisplacement.Clone();
         MechanismDetector.ThrowIfSingular(sys, sys.Refactor(u));

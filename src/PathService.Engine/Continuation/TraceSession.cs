@@ -4,14 +4,19 @@ using PathService.Engine.Model;
 namespace PathService.Engine.Continuation;
 
 /// <summary>What one trace shares across its branches: the system, the controls, the counters and the clock.</summary>
-internal sealed class TraceSession(StructuralModel model, SolverControls controls, EquilibriumSystem sys, CancellationToken ct)
+/// <param name="started">Stopwatch timestamp of the start of the trace (before the system was built), so that the wall
+/// time and its limit include the ordering and symbolic analysis, and any time the caller kept the trace waiting.</param>
+internal sealed class TraceSession(StructuralModel model, SolverControls controls, EquilibriumSystem sys, CancellationToken ct, long started)
 {
     public StructuralModel Model { get; } = model;
     public SolverControls Controls { get; } = controls;
     public EquilibriumSystem Sys { get; } = sys;
     public Corrector Corrector { get; } = new(sys);
     public CancellationToken Ct { get; } = ct;
-    public Stopwatch Clock { get; } = Stopwatch.StartNew();
+    private readonly long _started = started;
+
+    /// <summary>Wall time since the trace started, including any time spent waiting for the caller to take the events.</summary>
+    public TimeSpan Elapsed => Stopwatch.GetElapsedTime(_started);
     public int[] Monitored { get; } = controls.Monitored.Select(model.FullDof).ToArray();
     public int TargetDof { get; } = controls.TargetDisplacementDof is { } td ? model.FullDof(td) : controls.ControlDof is { } cd ? model.FullDof(cd) : -1;
     public int ControlEquation { get; } = controls.ControlDof is { } c ? model.Dofs.EquationOf[model.FullDof(c)] : -1;
@@ -28,14 +33,14 @@ internal sealed class TraceSession(StructuralModel model, SolverControls control
     public double FinalLoadFactor { get; set; }
 
     public PathSummary Summary(StopReason reason, string message) => new(reason, message, MaxLoadFactor, FinalLoadFactor, Points,
-        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Clock.Elapsed, Criticals) { Branches = Branches, Refinements = Sys.Refined.RefinementSteps };
+        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Elapsed, Criticals) { Branches = Branches, Refinements = Sys.Refined.RefinementSteps };
 
     /// <summary>A stop that ends the whole trace, whichever branch is being followed (null: go on).</summary>
     public (StopReason Reason, string Message)? GlobalStop()
     {
         if (Points >= Controls.MaxPoints) return (StopReason.PointLimitReached, $"reached the requested {Controls.MaxPoints} points");
         if (Ct.IsCancellationRequested) return (StopReason.Cancelled, "cancelled by the caller");
-        if (Controls.WallTimeLimit is { } wl && Clock.Elapsed > wl) return (StopReason.WallTimeExceeded, $"wall-time limit of {wl.TotalSeconds:G3} s exceeded");
+        if (Controls.WallTimeLimit is { } wl && Elapsed > wl) return (StopReason.WallTimeExceeded, $"wall-time limit of {wl.TotalSeconds:G3} s exceeded");
         return null;
     }
 

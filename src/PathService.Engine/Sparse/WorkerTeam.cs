@@ -8,6 +8,11 @@
 // simply finds nothing left. The first exception thrown by any participant is
 // rethrown on the caller after all have finished. Not re-entrant: one Run at a
 // time per team.
+//
+// Helpers are borrowed from the process-wide ComputeBudget for the length of one
+// Run: when other analyses use the budget, a run gets fewer participants (down
+// to the caller alone). Bodies must therefore split their work over
+// Participants, the number actually running, never over Threads.
 
 namespace PathService.Engine.Sparse;
 
@@ -32,18 +37,30 @@ internal sealed class WorkerTeam
         for (int i = 0; i < _helpers.Length; i++) _helpers[i] = new Helper(this, i + 1);
     }
 
-    /// <summary>Participants of a run (caller included).</summary>
+    /// <summary>Largest number of participants of a run (caller included).</summary>
     public int Threads { get; }
+
+    /// <summary>Participants of the current run (caller included), set before any participant starts.</summary>
+    public int Participants { get; private set; } = 1;
 
     /// <summary>Runs work.Execute(p) for p = 0 .. participants-1 (p = 0 on the calling thread) and waits for all.</summary>
     public void Run(ITeamWork work, int participants)
     {
         participants = Math.Clamp(participants, 1, Threads);
+        int borrowed = participants > 1 ? ComputeBudget.TryBorrow(participants - 1) : 0;
+        participants = 1 + borrowed;
+        Participants = participants;
         if (participants == 1)
         {
             work.Execute(0);
             return;
         }
+        try { RunShared(work, participants); }
+        finally { ComputeBudget.Return(borrowed); }
+    }
+
+    private void RunShared(ITeamWork work, int participants)
+    {
         _work = work;
         _error = null;
         Volatile.Write(ref _pending, participants - 1);

@@ -42,7 +42,10 @@ public sealed class LimitOptions
     public double RetryAfterSeconds { get; set; } = 2;
     /// <summary>Largest mode_count of FindBucklingModes.</summary>
     public int MaxBucklingModes { get; set; } = 20;
-    /// <summary>Wall-time cap of one trace in seconds (0 = none); a caller's smaller wall_time_limit wins.</summary>
+    /// <summary>
+    /// Wall-time cap of one trace, and of one AnalyzeLinear or FindBucklingModes call, in seconds (0 = none); a caller's
+    /// smaller wall_time_limit wins. The call holds its slot at most this long plus a short grace, blocked writes included.
+    /// </summary>
     public double MaxTraceSeconds { get; set; } = 600;
     /// <summary>Largest accepted request message in bytes (Kestrel's gRPC MaxReceiveMessageSize); beyond it RESOURCE_EXHAUSTED.</summary>
     public int MaxRequestBytes { get; set; } = 16 * 1024 * 1024;
@@ -54,6 +57,21 @@ public sealed class LimitOptions
     public double MaxAnalysisMemoryMiB { get; set; } = 1024;
     /// <summary>Default number of analyses one caller (API key) may run at once; 0 = no per-caller cap. A key may override it.</summary>
     public int MaxConcurrentAnalysesPerCaller { get; set; }
+    /// <summary>
+    /// Wall-time cap of one SweepImperfections call as a whole, in seconds (0 = none). Each trace of the sweep gets what
+    /// is left of it; amplitudes not reached are reported with STOP_REASON_WALL_TIME_EXCEEDED and no points.
+    /// </summary>
+    public double MaxSweepSeconds { get; set; } = 600;
+    /// <summary>
+    /// Longest wait, in seconds, for a caller to accept one streamed response (HTTP/2 flow control) before the call is
+    /// ended with ABORTED and its slot freed (0 = only the call's time limit bounds the wait).
+    /// </summary>
+    public double StalledWriteSeconds { get; set; } = 30;
+    /// <summary>
+    /// Compute threads all analyses share (0 = the processor count): each running analysis uses one, and the parallel
+    /// parts of the engine borrow helpers from what is left.
+    /// </summary>
+    public int ComputeThreads { get; set; }
 }
 
 /// <summary>Transport security and caller authentication.</summary>

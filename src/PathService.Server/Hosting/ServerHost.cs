@@ -29,6 +29,8 @@ public static class ServerHost
         var section = builder.Configuration.GetSection(PathServiceOptions.Section);
         var options = section.Get<PathServiceOptions>() ?? new PathServiceOptions();
         builder.Services.Configure<PathServiceOptions>(section);
+        // One compute-thread budget per process, shared by every analysis (Limits:ComputeThreads, 0 = processor count).
+        PathService.Engine.Sparse.ComputeBudget.Capacity = options.Limits.ComputeThreads > 0 ? options.Limits.ComputeThreads : Environment.ProcessorCount;
 
         // Refuse bad settings at start, each named, rather than clamping them or failing at the first call.
         var problems = OptionsValidation.Problems(options, out var certificate);

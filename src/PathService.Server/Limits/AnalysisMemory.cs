@@ -18,8 +18,11 @@ public static class AnalysisMemory
     /// <summary>Result of an estimate; <see cref="Exact"/> tells whether the symbolic analysis was run.</summary>
     public readonly record struct Estimate(long Bytes, long FactorEntries, bool Exact);
 
+    /// <param name="model">The model to analyse.</param>
+    /// <param name="budgetBytes">The budget: the symbolic analysis runs only when the cheap bound exceeds it (0 or less = never).</param>
     /// <param name="extraVectors">Dense work vectors of length "free DOFs" the analysis keeps besides the usual ones (e.g. a buckling subspace).</param>
-    public static Estimate Of(StructuralModel model, long budgetBytes, int extraVectors = 0)
+    /// <param name="ct">Checked before and after the symbolic analysis (which only runs when the cheap bound exceeds the budget).</param>
+    public static Estimate Of(StructuralModel model, long budgetBytes, int extraVectors = 0, CancellationToken ct = default)
     {
         long n = model.Dofs.FreeCount;
         long baseBytes = FixedBytes(model, n, extraVectors);
@@ -27,13 +30,22 @@ public static class AnalysisMemory
         long upper = baseBytes + BytesPerFactorEntry * denseEntries;
         if (budgetBytes <= 0 || upper <= budgetBytes) return new(upper, denseEntries, false);
         if (n == 0) return new(baseBytes, 0, true);
+        ct.ThrowIfCancellationRequested();
         var pattern = new StructureAssembler(model).Pattern;
         var symbolic = LdlSymbolic.Analyze(pattern);
+        ct.ThrowIfCancellationRequested();
         long entries = symbolic.FactorNonZeroCount;
         // From this size the engine may pick nested dissection (fewer flops), whose factor can hold a few per cent more
         // entries than minimum degree's (up to 8 % on the bench roofs); estimate with that margin rather than order twice.
         if (n >= OrderingChoice.AutomaticThreshold) entries += entries / 8;
         return new(baseBytes + BytesPerFactorEntry * entries, entries, true);
+    }
+
+    /// <summary>The cheap upper bound (a dense factor triangle), in bytes: no ordering, no symbolic analysis.</summary>
+    public static long Upper(StructuralModel model, int extraVectors = 0)
+    {
+        long n = model.Dofs.FreeCount;
+        return FixedBytes(model, n, extraVectors) + BytesPerFactorEntry * (n * (n + 1) / 2);
     }
 
     private static long FixedBytes(StructuralModel model, long n, int extraVectors)

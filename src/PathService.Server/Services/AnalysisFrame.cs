@@ -25,11 +25,13 @@ public sealed class AnalysisFrame(
     /// Common frame of every analysis: one span, the started/completed/failed counters, the limits, an analysis slot,
     /// and the translation of engine exceptions into status codes. Everything that can refuse a request runs before
     /// the slot is taken, in this order: shutdown, size limits, <paramref name="prepare"/> (mapping, validation,
-    /// memory estimate; it returns the analysis itself), the caller's own cap, the bounded queue. The analysis gets a
-    /// token that the call's cancellation, its deadline and the end of a shutdown's grace period all cancel; it returns
-    /// the outcome tag.
+    /// cheap memory bound; it returns the analysis itself), the caller's own cap, the bounded queue. Heavy preparation
+    /// (shaping an imperfection by buckling modes, the exact memory estimate) belongs to the analysis, inside the slot.
+    /// The analysis gets an <see cref="AnalysisCall"/>: a token that the call's cancellation, its deadline, the end of a
+    /// shutdown's grace period and the analysis's own time bound all cancel, and writes that cannot outlast that bound;
+    /// it returns the outcome tag. An analysis stopped by its time bound ends with DEADLINE_EXCEEDED.
     /// </summary>
-    public async Task RunAsync(string rpc, StructureModel? model, ServerCallContext context, Func<Func<CancellationToken, Task<string>>> prepare)
+    public async Task RunAsync(string rpc, StructureModel? model, ServerCallContext context, Func<PreparedAnalysis> prepare)
     {
         using var activity = PathServiceTelemetry.Source.StartActivity($"pathservice.{rpc}", ActivityKind.Internal);
         activity?.SetTag("pathservice.nodes", model?.Nodes.Count ?? 0);
@@ -65,7 +67,13 @@ public sealed class AnalysisFrame(
             ThrowIfDraining();
             telemetry.AnalysesActive.Add(1);
             string outcome;
-            try { outcome = await run(abort.Token); }
+            using var call = new AnalysisCall(rpc, context, abort.Token, run.TimeLimit,
+                TimeSpan.FromSeconds(limits.Values.StalledWriteSeconds), telemetry);
+            try { outcome = await run.Run(call); }
+            catch (OperationCanceledException) when (call.TimeBoundReached && !abort.IsCancellationRequested)
+            {
+                throw call.Exceeded("the analysis");
+            }
             finally { telemetry.AnalysesActive.Add(-1); }
             telemetry.AnalysesCompleted.Add(1, rpcTag, new("outcome", outcome));
             telemetry.AnalysisDuration.Record(Stopwatch.GetElapsedTime(started).TotalSeconds, rpcTag, new("status", "OK"));
@@ -103,13 +111,26 @@ public sealed class AnalysisFrame(
         if (shutdown.Draining) throw new RpcException(new Status(StatusCode.Unavailable, "the server is shutting down; retry on another instance"));
     }
 
-    /// <summary>RESOURCE_EXHAUSTED when the estimated memory of the analysis exceeds the configured budget.</summary>
-    public void CheckMemory(StructuralModel model, int extraVectors)
+    /// <summary>
+    /// Before the slot: true when the cheap upper bound of the memory (a dense factor) exceeds the budget, so the exact
+    /// estimate (ordering and symbolic analysis) must follow inside the slot with <see cref="CheckMemory"/>.
+    /// </summary>
+    public bool MemoryNeedsExactEstimate(StructuralModel model, int extraVectors)
+    {
+        double mib = limits.Values.MaxAnalysisMemoryMiB;
+        return mib > 0 && AnalysisMemory.Upper(model, extraVectors) > (long)(mib * 1024 * 1024);
+    }
+
+    /// <summary>
+    /// RESOURCE_EXHAUSTED when the estimated memory of the analysis exceeds the configured budget. Runs the symbolic
+    /// analysis when the cheap bound is above the budget: call it inside the slot, with the analysis's token.
+    /// </summary>
+    public void CheckMemory(StructuralModel model, int extraVectors, CancellationToken ct = default)
     {
         double mib = limits.Values.MaxAnalysisMemoryMiB;
         if (mib <= 0) return;
         long budget = (long)(mib * 1024 * 1024);
-        var estimate = AnalysisMemory.Of(model, budget, extraVectors);
+        var estimate = AnalysisMemory.Of(model, budget, extraVectors, ct);
         if (estimate.Bytes > budget)
             throw RpcErrors.TooLarge("model", "analysis_memory",
                 $"the analysis of this model needs about {estimate.Bytes / (1024.0 * 1024):F0} MiB ({estimate.FactorEntries} factor entries for {model.Dofs.FreeCount} free DOFs); this server allows {mib:F0} MiB per analysis");

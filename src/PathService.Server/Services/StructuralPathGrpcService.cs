@@ -39,24 +39,42 @@ public sealed class StructuralPathGrpcService(
     public override Task TracePath(TracePathRequest request, IServerStreamWriter<TracePathResponse> responseStream, ServerCallContext context) =>
         frame.RunAsync("TracePath", request.Model, context, () =>
         {
+            // Before the slot: everything cheap that can refuse the request.
             limits.CheckControls(request.Controls);
-            var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase, request.Imperfection);
-            var controls = ControlsMapper.ToControls(request.Controls, limits.DefaultMaxPoints, limits.MaxTraceTime);
-            frame.CheckMemory(model, 0);
-            string fingerprint = Fingerprint(request);
-            return async ct =>
+            var perfect = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
+            var imperfection = request.Imperfection;
+            double amplitude = 0;
+            if (imperfection is not null)
             {
-            var summary = await streamer.StreamAsync(model, controls, responseStream, ct, fingerprint, EngineVersion, context.CancellationToken);
-            // Stopped by the call's cancellation or by a shutdown: the engine may have ended with a Cancelled summary;
-            // the caller still gets CANCELLED, or UNAVAILABLE for a shutdown, rather than OK.
-            ct.ThrowIfCancellationRequested();
-            if (summary is null) return "Cancelled";
-            logger.LogInformation(
-                "Trace ended {StopReason} after {Points} points, {Steps} steps, {Iterations} iterations, {Cuts} cuts, {CriticalPoints} critical points; max load factor {MaxLoadFactor}, wall time {WallTimeMs} ms",
-                summary.Reason, summary.Points, summary.Steps, summary.Iterations, summary.Cuts, summary.CriticalPoints.Count,
-                summary.MaxLoadFactor, summary.WallTime.TotalMilliseconds);
-            return summary.Reason.ToString();
-            };
+                ImperfectionMapper.Check(perfect.Definition, imperfection);
+                amplitude = ImperfectionMapper.ToLength(perfect.Definition, imperfection, imperfection.Amplitude, "imperfection.amplitude");
+            }
+            var controls = ControlsMapper.ToControls(request.Controls, limits.DefaultMaxPoints, limits.MaxTraceTime);
+            bool exactMemory = frame.MemoryNeedsExactEstimate(perfect, 0);
+            string fingerprint = Fingerprint(request);
+            // Inside the slot, on the compute thread, with the call's token: the exact memory estimate and the shaping
+            // of the imperfection (a buckling analysis of the perfect model when it is given by buckling modes).
+            StructuralModel Prepare(CancellationToken ct)
+            {
+                if (exactMemory) frame.CheckMemory(perfect, 0, ct);
+                if (imperfection is null) return perfect;
+                // AnalysisInputException (no buckling mode, zero shape) carries its reason and field to the frame.
+                return StructuralModel.Create(ImperfectionMapper.Apply(perfect.Definition, imperfection, ct));
+            }
+            return new PreparedAnalysis(async call =>
+            {
+                var summary = await streamer.StreamAsync(perfect, controls, responseStream, call, fingerprint, EngineVersion,
+                    exactMemory || imperfection is not null ? Prepare : null);
+                // Stopped by the call's cancellation, a shutdown or the time bound: the engine may have ended with a
+                // Cancelled summary; the caller still gets CANCELLED, UNAVAILABLE or DEADLINE_EXCEEDED rather than OK.
+                call.Token.ThrowIfCancellationRequested();
+                if (summary is null) return "Cancelled";
+                logger.LogInformation(
+                    "Trace ended {StopReason} after {Points} points, {Steps} steps, {Iterations} iterations, {Cuts} cuts, {CriticalPoints} critical points; max load factor {MaxLoadFactor}, wall time {WallTimeMs} ms",
+                    summary.Reason, summary.Points, summary.Steps, summary.Iterations, summary.Cuts, summary.CriticalPoints.Count,
+                    summary.MaxLoadFactor, summary.WallTime.TotalMilliseconds);
+                return summary.Reason.ToString();
+            }, controls.WallTimeLimit);
         });
 
     public override Task<CheckModelResponse> CheckModel(CheckModelRequest request, ServerCallContext context)
@@ -76,10 +94,15 @@ public sealed class StructuralPathGrpcService(
             double lf = request.HasLoadFactor ? request.LoadFactor : 1.0;
             if (!double.IsFinite(lf)) throw RpcErrors.InvalidField("load_factor", $"load_factor is {lf}; it must be finite");
             var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
-            frame.CheckMemory(model, 0);
-            return _ =>
+            bool exactMemory = frame.MemoryNeedsExactEstimate(model, 0);
+            return new PreparedAnalysis(async call =>
             {
-            var result = LinearStaticAnalysis.Run(model, lf);
+            // On a compute thread of its own, with the call's token (caller, shutdown, time bound).
+            var result = await ComputeThreads.Run(() =>
+            {
+                if (exactMemory) frame.CheckMemory(model, 0, call.Token);
+                return LinearStaticAnalysis.Run(model, lf, cancellationToken: call.Token);
+            });
             var mapper = new ResultMapper(model, []);
             response = new AnalyzeLinearResponse
             {
@@ -90,8 +113,8 @@ public sealed class StructuralPathGrpcService(
             response.Warnings.AddRange(model.Warnings.Select(ResultMapper.ToFinding));
             response.SlackBars.AddRange(result.SlackBars);
             FiniteGuard.ThrowIfNonFinite(response);
-            return Task.FromResult("Solved");
-            };
+            return "Solved";
+            }, limits.MaxTraceTime);
         });
         return response!;
     }
@@ -106,19 +129,27 @@ public sealed class StructuralPathGrpcService(
                 throw RpcErrors.InvalidField("mode_count", $"mode_count is {count}; it must be 1..{limits.Values.MaxBucklingModes}");
             var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
             // The subspace iteration keeps four dense blocks of q = max(2p, p + 8) vectors, plus the two matrices.
-            frame.CheckMemory(model, 4 * Math.Max(2 * count, count + 8));
-            return _ =>
+            int extraVectors = 4 * Math.Max(2 * count, count + 8);
+            bool exactMemory = frame.MemoryNeedsExactEstimate(model, extraVectors);
+            return new PreparedAnalysis(async call =>
             {
             LinearBucklingResult result;
-            try { result = LinearBucklingAnalysis.Run(model, count); }
+            try
+            {
+                // On a compute thread of its own, with the call's token (caller, shutdown, time bound).
+                result = await ComputeThreads.Run(() =>
+                {
+                    if (exactMemory) frame.CheckMemory(model, extraVectors, call.Token);
+                    return LinearBucklingAnalysis.Run(model, count, ct: call.Token);
+                });
+            }
             catch (ArgumentOutOfRangeException ex) { throw RpcErrors.InvalidField("mode_count", ex.Message); }
-            catch (InvalidOperationException ex) { throw RpcErrors.Precondition("UNSTABLE_START", ex.Message); }
             var mapper = new ResultMapper(model, []);
             response = new FindBucklingModesResponse { Iterations = result.Iterations, Converged = result.Converged, Units = ModelMapper.ToUnits(model.Units) };
             response.Modes.AddRange(result.Modes.Select(mapper.ToMode));
             FiniteGuard.ThrowIfNonFinite(response);
-            return Task.FromResult(result.Converged ? "Converged" : "NotConverged");
-            };
+            return result.Converged ? "Converged" : "NotConverged";
+            }, limits.MaxTraceTime);
         });
         return response!;
     }

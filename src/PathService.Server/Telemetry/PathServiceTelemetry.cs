@@ -48,6 +48,7 @@ public sealed class PathServiceTelemetry
     public Counter<long> AuthenticationFailures { get; }
     public Histogram<double> AnalysisDuration { get; }
     public Counter<long> SolveRefinements { get; }
+    public Counter<long> StalledWrites { get; }
 
     /// <summary>Bucket bounds of <see cref="AnalysisDuration"/>, the last one the server's maximum trace time.</summary>
     public IReadOnlyList<double> AnalysisDurationBounds { get; }
@@ -75,6 +76,7 @@ public sealed class PathServiceTelemetry
             advice: new InstrumentAdvice<double> { HistogramBucketBoundaries = AnalysisDurationBounds });
         SolveRefinements = meter.CreateCounter<long>("pathservice.solve_refinements", "{step}",
             "Iterative-refinement steps taken because a solve with the factorised tangent had a backward error above 1e-12.");
+        StalledWrites = meter.CreateCounter<long>("pathservice.writes.stalled", "{write}", "Streamed responses the caller did not accept in time; the call was ended (tag rpc).");
         CreateZeroSeries();
     }
 
@@ -89,6 +91,7 @@ public sealed class PathServiceTelemetry
         {
             var rpcTag = new KeyValuePair<string, object?>("rpc", rpc);
             AnalysesStarted.Add(0, rpcTag);
+            StalledWrites.Add(0, rpcTag);
             foreach (var reason in ExpectedFailureReasons) AnalysesFailed.Add(0, rpcTag, new("reason", reason));
         }
         foreach (var outcome in Enum.GetNames<StopReason>()) AnalysesCompleted.Add(0, new("rpc", "TracePath"), new("outcome", outcome));
