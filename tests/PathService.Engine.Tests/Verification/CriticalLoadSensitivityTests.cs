@@ -102,6 +102,40 @@ public class CriticalLoadSensitivityTests
     }
 
     /// <summary>
+    /// The post held by equal springs in x and z has a double bifurcation: both sway modes become critical at once.
+    /// The individual critical loads are not differentiable there (each spring moves only its own mode's load); the
+    /// mean of the two eigenvalues, μ̄ = (k_x + k_z)/2 + AS/L0, reaches zero where the single-spring formula holds with
+    /// k̄ = (k_x + k_z)/2, so each spring's derivative of the mean critical load is half of dP/dk.
+    /// </summary>
+    [Fact]
+    public void Double_bifurcation_reports_the_derivative_of_the_mean_critical_load()
+    {
+        var def = TestModels.SpringHeldPost(L, PostEA, K, PRef) with
+        {
+            GroundSprings = [new GroundSpringDefinition("lateral-x", "top", Axis.X, K), new GroundSpringDefinition("lateral-z", "top", Axis.Z, K)],
+            Supports = [.. TestModels.Pin("base")],
+        };
+        var (cp, model) = FirstCritical(def, PostControls());
+        Assert.Equal(CriticalPointKind.Bifurcation, cp.Kind);
+        var sys = new EquilibriumSystem(model, new SolverControls().TinyPivotRatio);
+        var u = cp.State!.Displacements;
+        sys.Refactor(u);
+        // The two sway modes of the top (the free DOFs of node "top": x, y, z).
+        var ex = new double[sys.FreeCount];
+        var ez = new double[sys.FreeCount];
+        ex[model.Dofs.EquationOf[3 * model.NodeIndex("top")]] = 1;
+        ez[model.Dofs.EquationOf[3 * model.NodeIndex("top") + 2]] = 1;
+        var s = SensitivityAnalysis.Compute(sys, u, cp.LoadFactor, [ex, ez], CriticalPointKind.Bifurcation, factorAtU: true);
+        Assert.True(s.Defined, s.Note);
+        Assert.Equal(2, s.Multiplicity);
+        Assert.Contains("mean", s.Note);
+        double sq = Math.Sqrt(1 - 2 * K * L / PostEA);
+        double dPdk = L * sq - K * L * L / (PostEA * sq);
+        AssertRelative(0.5 * dPdk / PRef, s.GroundSpringStiffness[0], 3e-9, "d mean λ / dk_x");
+        AssertRelative(0.5 * dPdk / PRef, s.GroundSpringStiffness[1], 3e-9, "d mean λ / dk_z");
+    }
+
+    /// <summary>
     /// A three-dimensional check without a closed form: a shallow lattice dome's first limit point, against central
     /// differences of the re-traced limit load (step 1e-4 relative; truncation error ~1e-8, location error ~1e-12/1e-4).
     /// </summary>
