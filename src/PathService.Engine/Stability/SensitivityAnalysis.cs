@@ -33,6 +33,7 @@ internal static class SensitivityAnalysis
     /// <param name="u">Full displacement vector at the critical point.</param>
     /// <param name="modesFree">Critical mode(s) on the free DOFs; orthonormalised here.</param>
     /// <param name="factorAtU">True when the system's factorisation is the tangent at <paramref name="u"/> (saves one).</param>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
     public static CriticalLoadSensitivity Compute(EquilibriumSystem sys, double[] u, double lambda, IReadOnlyList<double[]> modesFree,
         CriticalPointKind kind, bool factorAtU)
     {
@@ -93,6 +94,9 @@ internal static class SensitivityAnalysis
         Span<double> meanQuadratic = stackalloc double[BarDesignTerms.ParameterCount];
         Span<double> contraction = stackalloc double[BarDesignTerms.ParameterCount];
         Span<double> phiBar = stackalloc double[6];
+        Span<double> work = stackalloc double[BarDesignTerms.ParameterCount];
+        Span<double> size = stackalloc double[BarDesignTerms.ParameterCount];
+        double phiMax = MaxAbs(phiFull[0]);
         var (gx, gy, gz) = m.Definition.Gravity;
         bool bifurcation = method == SensitivityMethod.ZeroEigenvalue;
         for (int b = 0; b < m.BarCount; b++)
@@ -123,8 +127,6 @@ internal static class SensitivityAnalysis
             }
             if (bifurcation)
             {
-                Span<double> work = stackalloc double[BarDesignTerms.ParameterCount];
-                Span<double> size = stackalloc double[BarDesignTerms.ParameterCount];
                 for (int q = 0; q < k; q++)
                 {
                     Contract(force, weight, phiFull[q], i, j, work);
@@ -154,7 +156,7 @@ internal static class SensitivityAnalysis
             ground[s] = bifurcation
                 ? -(phiFull.Sum(p => p[dof] * p[dof]) / k - wFull[dof] * u[dof]) / denominator
                 : wFull[dof] * u[dof] / denominator;
-            if (bifurcation && Math.Abs(phiFull[0][dof] * u[dof]) > BreakingRatio * Math.Abs(u[dof]) * MaxAbs(phiFull[0]))
+            if (bifurcation && Math.Abs(phiFull[0][dof] * u[dof]) > BreakingRatio * Math.Abs(u[dof]) * phiMax)
                 breaking.Add($"ground_spring:{m.GroundSpringIds[s]}:stiffness");
         }
         var link = new double[m.LinkSpringStiffness.Length];
@@ -165,12 +167,12 @@ internal static class SensitivityAnalysis
             link[s] = bifurcation
                 ? -(phiFull.Sum(p => (p[e] - p[a]) * (p[e] - p[a])) / k - (wFull[e] - wFull[a]) * stretch) / denominator
                 : (wFull[e] - wFull[a]) * stretch / denominator;
-            if (bifurcation && Math.Abs((phiFull[0][e] - phiFull[0][a]) * stretch) > BreakingRatio * Math.Abs(stretch) * MaxAbs(phiFull[0]))
+            if (bifurcation && Math.Abs((phiFull[0][e] - phiFull[0][a]) * stretch) > BreakingRatio * Math.Abs(stretch) * phiMax)
                 breaking.Add($"link_spring:{m.LinkSpringIds[s]}:stiffness");
         }
         if (bifurcation)
             for (int dof = 0; dof < coords.Length; dof++)
-                if (modeWorkCoord[dof] > BreakingRatio * sizeCoord[dof] * MaxAbs(phiFull[0]) && sizeCoord[dof] > 0)
+                if (modeWorkCoord[dof] > BreakingRatio * sizeCoord[dof] * phiMax && sizeCoord[dof] > 0)
                     breaking.Add($"node:{m.NodeIds[dof / 3]}:{"xyz"[dof % 3]}");
         string note = bifurcation
             ? k > 1 ? $"multiple bifurcation ({k} modes): the individual critical loads are not differentiable; these are the derivatives of their mean" : "bifurcation: derivative of the zero crossing of the critical eigenvalue along the fundamental path"
