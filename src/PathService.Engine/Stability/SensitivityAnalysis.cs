@@ -1,0 +1,273 @@
+using PathService.Engine.Continuation;
+using PathService.Engine.Elements;
+using PathService.Engine.Model;
+using PathService.Engine.Sparse;
+
+namespace PathService.Engine.Stability;
+
+/// <summary>
+/// Design sensitivity of a located critical point (derivations in docs/theory.md, "Sensitivity of the critical load").
+///
+/// Limit point. Along the set of limit points r(u(p), λ(p), p) = 0 with K φ = 0; differentiating the equilibrium and
+/// multiplying by φᵀ removes du/dp (φᵀK = 0), so dλ_c/dp = φᵀ ∂r/∂p / (φᵀ F_ref): one contraction of the element
+/// derivatives with φ and no factorisation (e.g. Z. Mróz and R. T. Haftka, "Design sensitivity analysis of non-linear
+/// structures in regular and critical states", Int. J. Solids Struct. 31, 1994 (from memory); the same formula is
+/// the first step of K. K. Choi and N.-H. Kim, "Structural Sensitivity Analysis and Optimization", Springer 2005 (from memory)).
+///
+/// Bifurcation. φᵀF_ref = 0 there, so that quotient is 0/0. λ_c is instead where the eigenvalue μ = φᵀK(u_f(λ, p), p)φ
+/// along the fundamental path u_f crosses zero: dλ_c/dp = −(∂μ/∂p)/(∂μ/∂λ), with ∂μ/∂λ = gᵀ u_f,λ and
+/// ∂μ/∂p = φᵀK_pφ + gᵀ u_f,p, where g = ∇_u(φᵀKφ), K u_f,λ = F_ref and K u_f,p = −∂r/∂p. One adjoint solve a = K⁺g
+/// (in the complement of the critical modes, where K is regular) turns every parameter's term into a contraction:
+///     dλ_c/dp = −(φᵀK_pφ − aᵀ∂r/∂p) / (aᵀF_ref).
+/// The fundamental path's tangent is taken without a component along φ, which holds where the bifurcation breaks a
+/// symmetry of the fundamental path (the usual case). A change whose residual change does work on φ (φᵀ∂r/∂p ≠ 0)
+/// breaks that symmetry: it is listed in <see cref="CriticalLoadSensitivity.Breaking"/>. For a point of multiplicity k
+/// the derivative is that of the mean of the k coalescing eigenvalues, (1/k)Σφ_iᵀKφ_i with orthonormal modes: the
+/// individual λ are not differentiable there, the mean is.
+/// </summary>
+internal static class SensitivityAnalysis
+{
+    /// <summary>Relative size of φᵀ∂r/∂p (against the parameter's residual change) above which a change breaks the bifurcation.</summary>
+    private const double BreakingRatio = 1e-6;
+
+    /// <param name="u">Full displacement vector at the critical point.</param>
+    /// <param name="modesFree">Critical mode(s) on the free DOFs; orthonormalised here.</param>
+    /// <param name="factorAtU">True when the system's factorisation is the tangent at <paramref name="u"/> (saves one).</param>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+    public static CriticalLoadSensitivity Compute(EquilibriumSystem sys, double[] u, double lambda, IReadOnlyList<double[]> modesFree,
+        CriticalPointKind kind, bool factorAtU)
+    {
+        var m = sys.Model;
+        int k = modesFree.Count;
+        var method = kind == CriticalPointKind.LimitPoint ? SensitivityMethod.LimitPoint : SensitivityMethod.ZeroEigenvalue;
+        if (k == 0) return CriticalLoadSensitivity.Undefined(method, 0, "no critical mode was given");
+        for (int b = 0; b < m.BarCount; b++)
+        {
+            var state = BarKinematics.Evaluate(m, u, b, sys.Assembler.PlasticStrain[b]);
+            if (state.Regime == BarRegime.Yielding || sys.Assembler.PlasticStrain[b] != 0)
+                return CriticalLoadSensitivity.Undefined(method, k, $"bar '{m.BarIds[b]}' has yielded before the critical point: the critical load then depends on the loading history and has no derivative of this kind");
+        }
+        var modes = Orthonormal(modesFree);
+        var phiFull = modes.Select(p => Full(m, p)).ToList();
+        var (constantFactor, referenceFactor) = SelfWeightFactors(m.Definition);
+        double selfWeight = constantFactor + lambda * referenceFactor;
+
+        double[] wFull; // the vector the residual derivatives are contracted with
+        double denominator;
+        if (method == SensitivityMethod.LimitPoint)
+        {
+            wFull = phiFull[0];
+            denominator = EquilibriumSystem.Dot(modes[0], sys.ReferenceFree);
+            double scale = Math.Sqrt(sys.ReferenceNormSquared);
+            if (Math.Abs(denominator) <= 1e-12 * scale)
+                return CriticalLoadSensitivity.Undefined(method, k, "the critical mode does no work on the reference load (φᵀF_ref = 0): not a limit point");
+        }
+        else
+        {
+            if (!factorAtU && sys.Refactor(u) == LdlStatus.ZeroPivot)
+                return CriticalLoadSensitivity.Undefined(method, k, "the tangent at the critical point has an exactly zero pivot; the adjoint solve is not possible there");
+            var g = new double[sys.FreeCount];
+            var gFull = new double[3 * m.NodeCount];
+            foreach (var phi in phiFull) AddQuadraticGradient(m, u, phi, 1.0 / k, gFull, sys.Assembler.PlasticStrain);
+            m.Dofs.Gather(gFull, g);
+            Project(g, modes);
+            sys.Factor.Solve(g);
+            Project(g, modes);
+            wFull = Full(m, g);
+            denominator = EquilibriumSystem.Dot(g, sys.ReferenceFree);
+            double scale = Math.Sqrt(EquilibriumSystem.Dot(g, g) * sys.ReferenceNormSquared);
+            if (!(Math.Abs(denominator) > 1e-12 * scale))
+                return CriticalLoadSensitivity.Undefined(method, k, "the critical eigenvalue does not change along the fundamental path (aᵀF_ref = 0): the crossing is not transversal");
+        }
+
+        var area = new double[m.BarCount];
+        var modulus = new double[m.BarCount];
+        var volume = new double[m.BarCount];
+        var coords = new double[3 * m.NodeCount];
+        // Per parameter: φᵀ∂r/∂p (breaking check) and the size of ∂r/∂p it is compared with.
+        var modeWorkCoord = new double[3 * m.NodeCount];
+        var sizeCoord = new double[3 * m.NodeCount];
+        var breaking = new List<string>();
+        Span<double> force = stackalloc double[3 * BarDesignTerms.ParameterCount];
+        Span<double> weight = stackalloc double[3 * BarDesignTerms.ParameterCount];
+        Span<double> quadratic = stackalloc double[BarDesignTerms.ParameterCount];
+        Span<double> meanQuadratic = stackalloc double[BarDesignTerms.ParameterCount];
+        Span<double> contraction = stackalloc double[BarDesignTerms.ParameterCount];
+        Span<double> phiBar = stackalloc double[6];
+        Span<double> work = stackalloc double[BarDesignTerms.ParameterCount];
+        Span<double> size = stackalloc double[BarDesignTerms.ParameterCount];
+        double phiMax = MaxAbs(phiFull[0]);
+        var (gx, gy, gz) = m.Definition.Gravity;
+        bool bifurcation = method == SensitivityMethod.ZeroEigenvalue;
+        for (int b = 0; b < m.BarCount; b++)
+        {
+            int i = m.BarStart[b], j = m.BarEnd[b];
+            var state = BarKinematics.Evaluate(m, u, b, 0);
+            if (state.Regime == BarRegime.Slack) continue; // a slack tension- or compression-only bar: no first-order effect
+            var bar = new BarDesignTerms.Bar(
+                m.Coordinates[3 * i], m.Coordinates[3 * i + 1], m.Coordinates[3 * i + 2], m.Coordinates[3 * j], m.Coordinates[3 * j + 1], m.Coordinates[3 * j + 2],
+                m.BarArea[b], m.BarModulus[b], m.BarInitialStress[b],
+                u[3 * j] - u[3 * i], u[3 * j + 1] - u[3 * i + 1], u[3 * j + 2] - u[3 * i + 2],
+                m.Definition.Bars[b].Density, selfWeight, gx, gy, gz);
+            meanQuadratic.Clear();
+            for (int q = 0; q < (bifurcation ? k : 1); q++)
+            {
+                if (bifurcation) { Gather(phiFull[q], i, j, phiBar); BarDesignTerms.Derivatives(bar, phiBar, force, weight, quadratic); }
+                else BarDesignTerms.Derivatives(bar, [], force, weight, []);
+                if (bifurcation) for (int p = 0; p < BarDesignTerms.ParameterCount; p++) meanQuadratic[p] += quadratic[p] / k;
+            }
+            Contract(force, weight, wFull, i, j, contraction);
+            for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
+            {
+                // Limit point: φᵀr_p / φᵀF_ref. Bifurcation: −(φᵀK_pφ − aᵀr_p) / aᵀF_ref.
+                double d = bifurcation ? -(meanQuadratic[p] - contraction[p]) / denominator : contraction[p] / denominator;
+                if (p == 0) area[b] = d;
+                else if (p == 1) modulus[b] = d;
+                else coords[3 * (p < 5 ? i : j) + (p - 2) % 3] += d;
+            }
+            if (bifurcation)
+            {
+                for (int q = 0; q < k; q++)
+                {
+                    Contract(force, weight, phiFull[q], i, j, work);
+                    for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
+                    {
+                        size[p] = ResidualChangeSize(force, weight, p);
+                        if (p < 2)
+                        {
+                            if (Math.Abs(work[p]) > BreakingRatio * size[p] && q == 0) breaking.Add($"bar:{m.BarIds[b]}:{(p == 0 ? "area" : "modulus")}");
+                        }
+                        else
+                        {
+                            int dof = 3 * (p < 5 ? i : j) + (p - 2) % 3;
+                            modeWorkCoord[dof] += Math.Abs(work[p]) / k;
+                            if (q == 0) sizeCoord[dof] += size[p];
+                        }
+                    }
+                }
+            }
+            volume[b] = area[b] / m.BarLength[b];
+        }
+
+        var ground = new double[m.GroundSpringStiffness.Length];
+        for (int s = 0; s < ground.Length; s++)
+        {
+            int dof = m.GroundSpringDof[s];
+            ground[s] = bifurcation
+                ? -(phiFull.Sum(p => p[dof] * p[dof]) / k - wFull[dof] * u[dof]) / denominator
+                : wFull[dof] * u[dof] / denominator;
+            if (bifurcation && Math.Abs(phiFull[0][dof] * u[dof]) > BreakingRatio * Math.Abs(u[dof]) * phiMax)
+                breaking.Add($"ground_spring:{m.GroundSpringIds[s]}:stiffness");
+        }
+        var link = new double[m.LinkSpringStiffness.Length];
+        for (int s = 0; s < link.Length; s++)
+        {
+            int a = m.LinkSpringStartDof[s], e = m.LinkSpringEndDof[s];
+            double stretch = u[e] - u[a];
+            link[s] = bifurcation
+                ? -(phiFull.Sum(p => (p[e] - p[a]) * (p[e] - p[a])) / k - (wFull[e] - wFull[a]) * stretch) / denominator
+                : (wFull[e] - wFull[a]) * stretch / denominator;
+            if (bifurcation && Math.Abs((phiFull[0][e] - phiFull[0][a]) * stretch) > BreakingRatio * Math.Abs(stretch) * phiMax)
+                breaking.Add($"link_spring:{m.LinkSpringIds[s]}:stiffness");
+        }
+        if (bifurcation)
+            for (int dof = 0; dof < coords.Length; dof++)
+                if (modeWorkCoord[dof] > BreakingRatio * sizeCoord[dof] * phiMax && sizeCoord[dof] > 0)
+                    breaking.Add($"node:{m.NodeIds[dof / 3]}:{"xyz"[dof % 3]}");
+        string note = bifurcation
+            ? k > 1 ? $"multiple bifurcation ({k} modes): the individual critical loads are not differentiable; these are the derivatives of their mean" : "bifurcation: derivative of the zero crossing of the critical eigenvalue along the fundamental path"
+            : "limit point";
+        return new CriticalLoadSensitivity(true, note, method, k, area, modulus, volume, coords, ground, link, breaking);
+    }
+
+    /// <summary>wᵀ∂r/∂p for the bar's eight parameters: the internal force enters r with +, the self-weight with −.</summary>
+    private static void Contract(ReadOnlySpan<double> force, ReadOnlySpan<double> weight, double[] w, int i, int j, Span<double> result)
+    {
+        for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
+        {
+            double s = 0;
+            for (int c = 0; c < 3; c++)
+                s += (w[3 * j + c] - w[3 * i + c]) * force[3 * p + c] - (w[3 * i + c] + w[3 * j + c]) * weight[3 * p + c];
+            result[p] = s;
+        }
+    }
+
+    /// <summary>‖∂r/∂p‖ of one bar's contribution (both end nodes).</summary>
+    private static double ResidualChangeSize(ReadOnlySpan<double> force, ReadOnlySpan<double> weight, int p)
+    {
+        double s = 0;
+        for (int c = 0; c < 3; c++)
+        {
+            double f = force[3 * p + c], w = weight[3 * p + c];
+            s += (f - w) * (f - w) + (f + w) * (f + w);
+        }
+        return Math.Sqrt(s);
+    }
+
+    /// <summary>Adds weight · ∇_u(φᵀKφ) of every elastic bar (springs are linear: no contribution).</summary>
+    private static void AddQuadraticGradient(StructuralModel m, double[] u, double[] phi, double weight, double[] g, double[] plastic)
+    {
+        for (int b = 0; b < m.BarCount; b++)
+        {
+            var s = BarKinematics.Evaluate(m, u, b, plastic[b]);
+            if (s.TangentModulus == 0) continue;
+            int i = m.BarStart[b], j = m.BarEnd[b];
+            double l0 = m.BarLength[b];
+            double stiffness = weight * s.TangentModulus * m.BarArea[b] / (l0 * l0 * l0);
+            var (x, y, z) = BarDesignTerms.QuadraticGradient(s.Dx, s.Dy, s.Dz, phi[3 * j] - phi[3 * i], phi[3 * j + 1] - phi[3 * i + 1], phi[3 * j + 2] - phi[3 * i + 2], stiffness);
+            g[3 * j] += x; g[3 * j + 1] += y; g[3 * j + 2] += z;
+            g[3 * i] -= x; g[3 * i + 1] -= y; g[3 * i + 2] -= z;
+        }
+    }
+
+    /// <summary>Sum of the self-weight factors of the combination's constant and reference parts.</summary>
+    private static (double Constant, double Reference) SelfWeightFactors(ModelDefinition def)
+    {
+        if (def.Combination is not { } combo) return (0, 0);
+        var selfWeight = def.LoadPatterns.Where(p => p.SelfWeight).Select(p => p.Name).ToHashSet(StringComparer.Ordinal);
+        return (combo.Constant.Where(f => selfWeight.Contains(f.Pattern)).Sum(f => f.Factor),
+                combo.Reference.Where(f => selfWeight.Contains(f.Pattern)).Sum(f => f.Factor));
+    }
+
+    private static List<double[]> Orthonormal(IReadOnlyList<double[]> vectors)
+    {
+        var result = new List<double[]>();
+        foreach (var v in vectors)
+        {
+            var x = (double[])v.Clone();
+            foreach (var q in result)
+            {
+                double c = EquilibriumSystem.Dot(x, q);
+                for (int e = 0; e < x.Length; e++) x[e] -= c * q[e];
+            }
+            double n = Math.Sqrt(EquilibriumSystem.Dot(x, x));
+            if (n == 0) continue;
+            for (int e = 0; e < x.Length; e++) x[e] /= n;
+            result.Add(x);
+        }
+        return result;
+    }
+
+    private static void Project(double[] x, List<double[]> modes)
+    {
+        foreach (var q in modes)
+        {
+            double c = EquilibriumSystem.Dot(x, q);
+            for (int e = 0; e < x.Length; e++) x[e] -= c * q[e];
+        }
+    }
+
+    private static double[] Full(StructuralModel m, double[] free)
+    {
+        var full = new double[3 * m.NodeCount];
+        m.Dofs.Scatter(free, full);
+        return full;
+    }
+
+    private static void Gather(double[] full, int i, int j, Span<double> bar)
+    {
+        for (int c = 0; c < 3; c++) { bar[c] = full[3 * i + c]; bar[3 + c] = full[3 * j + c]; }
+    }
+
+    private static double MaxAbs(double[] v) => v.Max(Math.Abs);
+}
