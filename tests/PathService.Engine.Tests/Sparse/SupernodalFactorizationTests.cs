@@ -226,14 +226,21 @@ public class SupernodalFactorizationTests
         // The calling thread must not allocate; with two threads the worker's share runs on a pool thread, where the
         // runtime may allocate its own bookkeeping now and then (a few kB seen while other tests ran in parallel), so
         // that thread is not measured here.
-        long before = GC.GetAllocatedBytesForCurrentThread();
-        for (int r = 0; r < 3; r++)
+        // The runtime itself may allocate once on this thread while it promotes these methods to optimised code under
+        // the load of the parallel test run (1,280 bytes seen once), so the steady state is judged on the best of three
+        // rounds: an allocation of our own would show in every round.
+        long allocated = long.MaxValue;
+        for (int round = 0; round < 3 && allocated != 0; round++)
         {
-            f.Factorize(k0);
-            f.Solve(x);
-            f.Solve2(x, y);
+            long before = GC.GetAllocatedBytesForCurrentThread();
+            for (int r = 0; r < 3; r++)
+            {
+                f.Factorize(k0);
+                f.Solve(x);
+                f.Solve2(x, y);
+            }
+            allocated = Math.Min(allocated, GC.GetAllocatedBytesForCurrentThread() - before);
         }
-        long allocated = GC.GetAllocatedBytesForCurrentThread() - before;
-        Assert.True(allocated == 0 || (threads > 1 && allocated < 16 * 1024), $"{allocated} bytes allocated on the calling thread");
+        Assert.True(allocated == 0 || (threads > 1 && allocated < 16 * 1024), $"{allocated} bytes allocated on the calling thread in every round");
     }
 }
