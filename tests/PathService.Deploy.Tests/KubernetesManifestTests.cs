@@ -36,13 +36,13 @@ public class KubernetesManifestTests(LiveServer server)
     [Fact]
     public void Container_ports_are_the_ports_of_appsettings_and_of_the_configmap()
     {
-        Assert.Equal(Shipped.Port, ContainerPort("grpc"));
+        Assert.Equal(Shipped.GrpcPort, ContainerPort("grpc"));
         Assert.Equal(Shipped.HttpPort, ContainerPort("http"));
         var data = Object("ConfigMap", "pathservice-config")["data"]!;
-        Assert.Equal(Shipped.Port.ToString(), Str(data["PathService__Port"]));
+        Assert.Equal(Shipped.GrpcPort.ToString(), Str(data["PathService__GrpcPort"]));
         Assert.Equal(Shipped.HttpPort.ToString(), Str(data["PathService__HttpPort"]));
         // The defaults in code agree with appsettings.json, so a missing variable changes nothing.
-        Assert.Equal(new PathServiceOptions().Port, Shipped.Port);
+        Assert.Equal(new PathServiceOptions().GrpcPort, Shipped.GrpcPort);
         Assert.Equal(new PathServiceOptions().HttpPort, Shipped.HttpPort);
     }
 
@@ -83,7 +83,7 @@ public class KubernetesManifestTests(LiveServer server)
         Assert.Equal("pathservice.v1.StructuralPathService", Str(readiness["service"]));
         foreach (var probe in new[] { liveness, readiness, startup })
         {
-            Assert.Equal(Shipped.Port.ToString(), Str(probe["port"]));
+            Assert.Equal(Shipped.GrpcPort.ToString(), Str(probe["port"]));
             Assert.Equal(HealthCheckResponse.Types.ServingStatus.Serving, await server.HealthAsync(Str(probe["service"]) ?? ""));
         }
         // The check discriminates: a name the server does not register is not reported as serving.
@@ -138,8 +138,8 @@ public class KubernetesManifestTests(LiveServer server)
         Assert.Equal("None", Str(svc["spec"]!["clusterIP"]));
         Assert.True(Selects(svc["spec"]!["selector"], PodLabels));
         var port = Assert.Single(svc["spec"]!["ports"]!.AsArray())!;
-        Assert.Equal(Shipped.Port.ToString(), Str(port["port"]));
-        Assert.Equal(ContainerPort(Str(port["targetPort"])!), Shipped.Port);
+        Assert.Equal(Shipped.GrpcPort.ToString(), Str(port["port"]));
+        Assert.Equal(ContainerPort(Str(port["targetPort"])!), Shipped.GrpcPort);
         // The HTTP service too selects the pods and reaches the HTTP port.
         var http = Object("Service", "pathservice-http");
         Assert.True(Selects(http["spec"]!["selector"], PodLabels));

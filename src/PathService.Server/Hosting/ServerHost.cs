@@ -21,7 +21,7 @@ public static class ServerHost
     /// <summary>Name under which the analysis service reports its health (besides the overall "").</summary>
     public const string HealthServiceName = "pathservice.v1.StructuralPathService";
 
-    /// <param name="args">Command-line arguments; any configuration key may be given, e.g. <c>--PathService:Port=0</c>.</param>
+    /// <param name="args">Command-line arguments; any configuration key may be given, e.g. <c>--PathService:GrpcPort=0</c>.</param>
     /// <param name="customize">Hook for tests: extra services (e.g. an in-memory metrics exporter) before the build.</param>
     public static WebApplication Build(string[] args, Action<WebApplicationBuilder>? customize = null)
     {
@@ -33,14 +33,15 @@ public static class ServerHost
         PathService.Engine.Sparse.ComputeBudget.Capacity = options.Limits.ComputeThreads > 0 ? options.Limits.ComputeThreads : Environment.ProcessorCount;
 
         // Refuse bad settings at start, each named, rather than clamping them or failing at the first call.
-        var problems = OptionsValidation.Problems(options, out var certificate);
+        var problems = OptionsValidation.RetiredKeyProblems(section);
+        problems.AddRange(OptionsValidation.Problems(options, out var certificate));
         if (problems.Count > 0) throw new ConfigurationRefusedException(problems);
         var endpoints = new BoundEndpoints { Tls = certificate is not null };
         builder.Services.AddSingleton(endpoints);
         builder.WebHost.ConfigureKestrel(k =>
         {
             var ip = IPAddress.Parse(options.ListenAddress);
-            k.Listen(ip, options.Port, l =>
+            k.Listen(ip, options.GrpcPort, l =>
             {
                 endpoints.GrpcListen = l;
                 if (certificate is null)
@@ -62,7 +63,7 @@ public static class ServerHost
                     if (certificate is not null) l.UseHttps(certificate);
                 });
         });
-        // The host waits for the grace period of running analyses plus a margin before it gives up on stopping.
+        // The host waits for the grace period (Shutdown:GraceSeconds) plus the 10 s cancellation wait and a margin before it gives up on stopping.
         builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = TimeSpan.FromSeconds(Math.Max(0, options.Shutdown.GraceSeconds) + 15));
 
         builder.AddPathServiceTelemetry(options.Telemetry);
