@@ -90,6 +90,31 @@ public class MetricsTests(ServerFixture server)
         Assert.Equal("solved", PathService.Server.Telemetry.PathServiceTelemetry.OutcomeLabel("Solved"));
     }
 
+    [Fact]
+    public void Every_instrument_follows_the_naming_rules()
+    {
+        var instruments = new List<System.Diagnostics.Metrics.Instrument>();
+        using (var listener = new System.Diagnostics.Metrics.MeterListener())
+        {
+            listener.InstrumentPublished = (i, _) => { if (i.Meter.Name == PathService.Server.Telemetry.PathServiceTelemetry.MeterName) lock (instruments) instruments.Add(i); };
+            listener.Start();
+        }
+        var byName = instruments.GroupBy(i => i.Name).Select(g => g.First()).ToList();
+        Assert.True(byName.Count >= 15, string.Join(", ", byName.Select(i => i.Name)));
+        foreach (var i in byName)
+        {
+            // pathservice. + dot-separated components, lower snake case inside a component (OpenTelemetry naming guidance).
+            Assert.Matches(@"^pathservice(\.[a-z]+(_[a-z]+)*)+$", i.Name);
+            // Durations are named .duration and measured in seconds; nothing else is.
+            Assert.Equal(i.Name.EndsWith(".duration", StringComparison.Ordinal), i.Unit == "s");
+            // Counters count things: a plural noun or a past participle of one (analyses.started), never a unit.
+            if (i is System.Diagnostics.Metrics.Counter<long>)
+                Assert.Matches(@"(s|\.(started|completed|failed|stalled))$", i.Name);
+            // US spelling in names and descriptions.
+            Assert.DoesNotMatch("(?i)factoris|behaviour|utilis|analys(e|ing)d?\\b", i.Name + " " + i.Description);
+        }
+    }
+
     private static bool HasTag(OpenTelemetry.Metrics.MetricPoint p, string key, string? value = null)
     {
         foreach (var t in p.Tags)

@@ -64,7 +64,7 @@ public static class ServerHost
                 });
         });
         // The host waits for the grace period (Shutdown:GraceSeconds) plus the 10 s cancellation wait and a margin before it gives up on stopping.
-        builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = TimeSpan.FromSeconds(Math.Max(0, options.Shutdown.GraceSeconds) + 15));
+        builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = ShutdownTimeout(options.Shutdown.GraceSeconds));
 
         builder.AddPathServiceTelemetry(options.Telemetry);
         builder.Services.AddGrpc(o =>
@@ -121,6 +121,13 @@ public static class ServerHost
         _ = app.Services.GetService<ExportFailureLog>();
         return app;
     }
+
+    /// <summary>
+    /// The host's shutdown timeout for a grace period of <paramref name="graceSeconds"/>: the grace period, then up to
+    /// 10 s for cancelled analyses to let go, then 5 s for Kestrel to stop. It supersedes the .NET shutdownTimeoutSeconds
+    /// setting; a pod's terminationGracePeriodSeconds must exceed it plus the preStop pause.
+    /// </summary>
+    public static TimeSpan ShutdownTimeout(double graceSeconds) => TimeSpan.FromSeconds(Math.Max(0, graceSeconds) + 15);
 
     /// <summary>
     /// Level of the one-line request log: a request the client aborted (during the upload or while the answer was

@@ -53,11 +53,11 @@ public sealed class PathServiceTelemetry
 
     /// <summary>
     /// Values of <c>error.type</c> on <c>pathservice.analyses.failed</c> that are the caller's doing or a normal end,
-    /// not a server fault: gRPC status names as the gRPC standard spells them.
+    /// not a server fault: gRPC status names as the gRPC standard spells them (ABORTED: a caller that stopped reading).
     /// </summary>
     public static readonly IReadOnlyList<string> ExpectedErrorTypes =
         [StatusName(StatusCode.InvalidArgument), StatusName(StatusCode.FailedPrecondition), StatusName(StatusCode.ResourceExhausted),
-         StatusName(StatusCode.Cancelled), StatusName(StatusCode.DeadlineExceeded), StatusName(StatusCode.Unavailable)];
+         StatusName(StatusCode.Cancelled), StatusName(StatusCode.DeadlineExceeded), StatusName(StatusCode.Unavailable), StatusName(StatusCode.Aborted)];
 
     /// <summary>Values of <c>error.type</c> on <c>pathservice.authentication.failures</c>: no key, or a key the server does not know.</summary>
     public static readonly IReadOnlyList<string> AuthenticationErrorTypes = [StatusName(StatusCode.Unauthenticated), StatusName(StatusCode.PermissionDenied)];
