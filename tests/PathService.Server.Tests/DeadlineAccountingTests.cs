@@ -7,8 +7,8 @@ using Xunit.Abstractions;
 namespace PathService.Server.Tests;
 
 /// <summary>
-/// Deadlines and cancellations are the caller's doing: each is counted under its own reason (DeadlineExceeded or
-/// Cancelled, never an exception type that the server-fault alert selects) and logged below Error, however the race
+/// Deadlines and cancellations are the caller's doing: each is counted under its own error.type (DEADLINE_EXCEEDED or
+/// CANCELLED, never an exception type that the server-fault alert selects) and logged below Error, however the race
 /// between the expiry and the stream's last write falls.
 /// </summary>
 [Collection(ServerCollection.Name)]
@@ -90,7 +90,7 @@ public sealed class DeadlineAccountingTests(ServerFixture server, ITestOutputHel
         }
         await Task.Delay(200);
         var failed = FailedByReason(server.CollectMetrics());
-        Assert.Equal(5, failed.GetValueOrDefault("Cancelled"));
+        Assert.Equal(5, failed.GetValueOrDefault("CANCELLED"));
         Assert.False(failed.ContainsKey("DeadlineExceeded"));
     }
 
