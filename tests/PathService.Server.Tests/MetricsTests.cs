@@ -91,6 +91,46 @@ public class MetricsTests(ServerFixture server)
     }
 
     [Fact]
+    public async Task The_analysis_span_carries_rpc_attributes_and_labelled_events()
+    {
+        var spans = new System.Collections.Concurrent.ConcurrentBag<System.Diagnostics.Activity>();
+        using var listener = new System.Diagnostics.ActivityListener
+        {
+            ShouldListenTo = s => s.Name == PathService.Server.Telemetry.PathServiceTelemetry.SourceName,
+            Sample = (ref System.Diagnostics.ActivityCreationOptions<System.Diagnostics.ActivityContext> _) => System.Diagnostics.ActivitySamplingResult.AllDataAndRecorded,
+            ActivityStopped = a => spans.Add(a),
+        };
+        System.Diagnostics.ActivitySource.AddActivityListener(listener);
+        // Load control past the limit point: cuts, then DIVERGED.
+        await foreach (var _ in server.Client.TracePath(new TracePathRequest
+        {
+            Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(),
+            Controls = new SolverControls { Method = ContinuationMethod.LoadControl, InitialLoadIncrement = 0.25, TargetLoadFactor = 10 },
+        }).ResponseStream.ReadAllAsync()) { }
+        var span = spans.First(a => Equals(a.GetTagItem("pathservice.stop_reason"), "diverged"));
+        Assert.Equal("pathservice.TracePath", span.DisplayName);
+        Assert.Equal("grpc", span.GetTagItem("rpc.system"));
+        Assert.Equal("pathservice.v1.StructuralPathService", span.GetTagItem("rpc.service"));
+        Assert.Equal("TracePath", span.GetTagItem("rpc.method"));
+        Assert.Equal("diverged", span.GetTagItem("pathservice.outcome"));
+        var cut = span.Events.First(e => e.Name == "pathservice.step.cut");
+        Assert.Contains(cut.Tags, t => t.Key == "pathservice.cut_reason" && t.Value is string v && System.Text.RegularExpressions.Regex.IsMatch(v, "^[a-z]+(_[a-z]+)*$"));
+        Assert.Contains(span.Events, e => e.Name == "pathservice.point" && e.Tags.Any(t => t.Key == "pathservice.point.load_factor"));
+
+        // A refusal: error.type with the gRPC status name, span status Error.
+        var bad = DemoStructures.TwoBarTruss();
+        bad.Bars[0].Area = 0;
+        bad.Name = "span-refusal";
+        await Assert.ThrowsAsync<RpcException>(async () =>
+        {
+            await foreach (var _ in server.Client.TracePath(new TracePathRequest { Model = bad, LoadCase = DemoStructures.ApexLoad() }).ResponseStream.ReadAllAsync()) { }
+        });
+        var refused = spans.Where(a => Equals(a.GetTagItem("error.type"), "INVALID_ARGUMENT")).ToList();
+        Assert.NotEmpty(refused);
+        Assert.All(refused, a => Assert.Equal(System.Diagnostics.ActivityStatusCode.Error, a.Status));
+    }
+
+    [Fact]
     public void Every_instrument_follows_the_naming_rules()
     {
         var instruments = new List<System.Diagnostics.Metrics.Instrument>();
