@@ -3,7 +3,7 @@
 # transcoding and the Prometheus scrape). Build from the repository root:
 #   docker build -t pathservice:dev .
 #   docker run --rm -p 5180:5180 -p 5181:5181 pathservice:dev
-# Configuration is by environment variable (PathService__Port, PathService__Limits__MaxConcurrentAnalyses, ...);
+# Configuration is by environment variable (PathService__GrpcPort, PathService__Limits__MaxConcurrentAnalyses, ...);
 # see docs/operations.md for every setting.
 
 ARG DOTNET_VERSION=10.0
@@ -34,12 +34,12 @@ FROM mcr.microsoft.com/dotnet/aspnet:${DOTNET_VERSION} AS runtime
 WORKDIR /app
 COPY --from=build /app/server ./server/
 COPY --from=build /app/probe ./probe/
-# The server binds its own two endpoints (PathService:ListenAddress/Port/HttpPort); the image's default
+# The server binds its own two endpoints (PathService:ListenAddress/GrpcPort/HttpPort); the image's default
 # ASPNETCORE_HTTP_PORTS=8080 would only be overridden with a warning, so it is cleared.
 ENV ASPNETCORE_HTTP_PORTS= \
     DOTNET_CLI_TELEMETRY_OPTOUT=1 \
     PathService__ListenAddress=0.0.0.0 \
-    PathService__Port=5180 \
+    PathService__GrpcPort=5180 \
     PathService__HttpPort=5181 \
     PathService__Telemetry__PrometheusPath=/metrics \
     PathService__Telemetry__ServiceName=pathservice

@@ -10,7 +10,7 @@ dotnet build src/PathService.Cli -c Release -nologo -v q
 bin="$(pwd)/src/PathService.Server/bin/Release/net10.0"
 log="$(mktemp)"
 dotnet "$bin/PathService.Server.dll" --contentRoot "$bin" \
-  --PathService:ListenAddress=127.0.0.1 --PathService:Port=0 --PathService:HttpPort=-1 >"$log" 2>&1 &
+  --PathService:ListenAddress=127.0.0.1 --PathService:GrpcPort=0 --PathService:HttpPort=-1 >"$log" 2>&1 &
 server=$!
 trap 'kill $server 2>/dev/null || true; wait $server 2>/dev/null || true; rm -f "$log"' EXIT
 url=""

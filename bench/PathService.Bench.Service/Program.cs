@@ -12,7 +12,7 @@ using PathService.Server.Tests.Fixtures;
 int runs = args.Length > 0 ? int.Parse(args[0]) : 5;
 int cells = args.Length > 1 ? int.Parse(args[1]) : 18; // 3·18² + 2·18 = 1,008 bars
 
-var app = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=-1",
+var app = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=-1",
     "--Serilog:MinimumLevel:Default=Warning"]);
 await app.StartAsync();
 var url = BoundEndpoints.UrlOf(app.Services.GetRequiredService<BoundEndpoints>().Grpc!);

@@ -228,7 +228,7 @@ sealed class Server : IAsyncDisposable
         int grpcPort = FreePort(), httpPort = FreePort();
         string[] config =
         [
-            "--PathService:ListenAddress=127.0.0.1", $"--PathService:Port={grpcPort}", $"--PathService:HttpPort={httpPort}",
+            "--PathService:ListenAddress=127.0.0.1", $"--PathService:GrpcPort={grpcPort}", $"--PathService:HttpPort={httpPort}",
             $"--PathService:Limits:MaxConcurrentAnalyses={o.Slots ?? Environment.ProcessorCount}",
             $"--PathService:Limits:MaxQueuedAnalyses={Math.Max(8, o.Concurrency)}",
             "--Serilog:MinimumLevel:Default=Warning",

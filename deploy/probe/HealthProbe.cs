@@ -8,7 +8,7 @@ namespace PathService.Probe;
 /// Asks grpc.health.v1.Health/Check on the local server and turns the answer into an exit code: 0 when the service is
 /// SERVING, 1 otherwise (not serving, unknown service, unreachable, timeout). Usage:
 /// <c>pathservice-probe [--address URL] [--service NAME] [--timeout SECONDS]</c>. Without --address it asks
-/// http://127.0.0.1:{PathService__Port or 5180}, the port the server itself reads from the same variable.
+/// http://127.0.0.1:{PathService__GrpcPort or 5180}, the port the server itself reads from the same variable.
 /// </summary>
 public static class HealthProbe
 {
@@ -28,7 +28,7 @@ public static class HealthProbe
                 default: Console.Error.WriteLine($"pathservice-probe: unknown option {args[i]}"); return Unhealthy;
             }
         }
-        address ??= $"http://127.0.0.1:{(int.TryParse(env("PathService__Port"), out int p) && p > 0 ? p : 5180)}";
+        address ??= $"http://127.0.0.1:{(int.TryParse(env("PathService__GrpcPort"), out int p) && p > 0 ? p : 5180)}";
         var (status, detail) = await CheckAsync(address, service, TimeSpan.FromSeconds(timeout));
         Console.WriteLine($"{address} '{service}': {detail}");
         return status == HealthCheckResponse.Types.ServingStatus.Serving ? Healthy : Unhealthy;

@@ -80,7 +80,7 @@ internal sealed class ServerInstance : IAsyncDisposable
     public static async Task<ServerInstance> StartAsync(int slots, IEnumerable<string>? settings = null, Action<WebApplicationBuilder>? customize = null)
     {
         var calls = new CallCounter();
-        var app = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
+        var app = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=0",
             $"--PathService:Limits:MaxConcurrentAnalyses={slots}", "--Serilog:MinimumLevel:Default=Warning",
             .. (settings ?? []).Select(s => "--PathService:" + s)],
             b =>

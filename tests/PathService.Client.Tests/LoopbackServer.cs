@@ -14,7 +14,7 @@ public sealed class LoopbackServer : IAsyncDisposable
     {
         string[] args =
         [
-            "--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=-1",
+            "--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=-1",
             "--Serilog:MinimumLevel:Default=Warning", .. settings.Select(s => "--PathService:" + s),
         ];
         var app = ServerHost.Build(args);

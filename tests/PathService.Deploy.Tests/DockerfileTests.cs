@@ -63,9 +63,9 @@ public class DockerfileTests
     public void Exposed_ports_and_environment_are_the_servers_configuration()
     {
         var exposed = Runtime("EXPOSE").Args.Split(' ', StringSplitOptions.RemoveEmptyEntries).Select(int.Parse).ToHashSet();
-        Assert.Equal(new HashSet<int> { Shipped.Port, Shipped.HttpPort }, exposed);
+        Assert.Equal(new HashSet<int> { Shipped.GrpcPort, Shipped.HttpPort }, exposed);
         var env = RuntimeEnv();
-        Assert.Equal(Shipped.Port.ToString(), env["PathService__Port"]);
+        Assert.Equal(Shipped.GrpcPort.ToString(), env["PathService__GrpcPort"]);
         Assert.Equal(Shipped.HttpPort.ToString(), env["PathService__HttpPort"]);
         Assert.Equal(Shipped.Telemetry.PrometheusPath, env["PathService__Telemetry__PrometheusPath"]);
         Assert.Equal("", env["ASPNETCORE_HTTP_PORTS"]);
@@ -136,7 +136,7 @@ public class DockerfileTests
             // ENTRYPOINT with the image's environment; only the listen address and ports differ (loopback, free ports).
             var env = RuntimeEnv();
             env["PathService__ListenAddress"] = "127.0.0.1";
-            env["PathService__Port"] = FreePort().ToString();
+            env["PathService__GrpcPort"] = FreePort().ToString();
             env["PathService__HttpPort"] = FreePort().ToString();
             var entry = ExecForm(Runtime("ENTRYPOINT").Args);
             using var serverProcess = Start(entry[0], entry[1..].Select(a => a.Replace("/app/", app + "/")).ToArray(), work, env);

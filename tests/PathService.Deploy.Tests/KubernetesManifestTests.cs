@@ -36,13 +36,13 @@ public class KubernetesManifestTests(LiveServer server)
     [Fact]
     public void Container_ports_are_the_ports_of_appsettings_and_of_the_configmap()
     {
-        Assert.Equal(Shipped.Port, ContainerPort("grpc"));
+        Assert.Equal(Shipped.GrpcPort, ContainerPort("grpc"));
         Assert.Equal(Shipped.HttpPort, ContainerPort("http"));
         var data = Object("ConfigMap", "pathservice-config")["data"]!;
-        Assert.Equal(Shipped.Port.ToString(), Str(data["PathService__Port"]));
+        Assert.Equal(Shipped.GrpcPort.ToString(), Str(data["PathService__GrpcPort"]));
         Assert.Equal(Shipped.HttpPort.ToString(), Str(data["PathService__HttpPort"]));
         // The defaults in code agree with appsettings.json, so a missing variable changes nothing.
-        Assert.Equal(new PathServiceOptions().Port, Shipped.Port);
+        Assert.Equal(new PathServiceOptions().GrpcPort, Shipped.GrpcPort);
         Assert.Equal(new PathServiceOptions().HttpPort, Shipped.HttpPort);
     }
 
@@ -83,7 +83,7 @@ public class KubernetesManifestTests(LiveServer server)
         Assert.Equal("pathservice.v1.StructuralPathService", Str(readiness["service"]));
         foreach (var probe in new[] { liveness, readiness, startup })
         {
-            Assert.Equal(Shipped.Port.ToString(), Str(probe["port"]));
+            Assert.Equal(Shipped.GrpcPort.ToString(), Str(probe["port"]));
             Assert.Equal(HealthCheckResponse.Types.ServingStatus.Serving, await server.HealthAsync(Str(probe["service"]) ?? ""));
         }
         // The check discriminates: a name the server does not register is not reported as serving.
@@ -91,7 +91,7 @@ public class KubernetesManifestTests(LiveServer server)
     }
 
     [Fact]
-    public void Pods_run_as_the_images_non_root_user_with_a_read_only_root_and_a_grace_period()
+    public void Pods_run_as_the_images_non_root_user_with_a_read_only_root_and_a_termination_period_beyond_the_grace_period()
     {
         var pod = PodSpec["securityContext"]!;
         Assert.Equal("true", Str(pod["runAsNonRoot"]));
@@ -101,9 +101,18 @@ public class KubernetesManifestTests(LiveServer server)
         Assert.Equal("true", Str(c["readOnlyRootFilesystem"]));
         Assert.Contains("ALL", c["capabilities"]!["drop"]!.AsArray().Select(Str));
         Assert.Contains(Container["volumeMounts"]!.AsArray(), m => Str(m!["mountPath"]) == "/tmp");
-        int grace = int.Parse(Str(PodSpec["terminationGracePeriodSeconds"])!);
-        int shutdown = int.Parse(Str(Assert.Single(Container["env"]!.AsArray(), e => Str(e!["name"]) == "shutdownTimeoutSeconds")!["value"])!);
-        Assert.True(shutdown + 5 <= grace, "the host's shutdown timeout plus the preStop pause must fit in the grace period");
+        // One name for the grace period: Shutdown:GraceSeconds in the ConfigMap; the host's shutdownTimeoutSeconds is not set
+        // (the server derives its shutdown timeout from the grace period), and the pod's termination period outlasts
+        // the preStop pause plus that timeout.
+        Assert.DoesNotContain(Container["env"]?.AsArray() ?? [], e => Str(e!["name"]) == "shutdownTimeoutSeconds");
+        int termination = int.Parse(Str(PodSpec["terminationGracePeriodSeconds"])!);
+        double grace = double.Parse(Str(Object("ConfigMap", "pathservice-config")["data"]!["PathService__Shutdown__GraceSeconds"])!, System.Globalization.CultureInfo.InvariantCulture);
+        Assert.Equal(Shipped.Shutdown.GraceSeconds, grace);
+        var preStop = Container["lifecycle"]!["preStop"]!["exec"]!["command"]!.AsArray().Select(Str).ToList();
+        Assert.Equal("sleep", preStop[0]);
+        double pause = double.Parse(preStop[1]!, System.Globalization.CultureInfo.InvariantCulture);
+        Assert.True(pause + ServerHost.ShutdownTimeout(grace).TotalSeconds < termination,
+            $"terminationGracePeriodSeconds {termination} must exceed the preStop pause {pause} s + the grace period {grace} s + 15 s");
     }
 
     [Fact]
@@ -138,8 +147,8 @@ public class KubernetesManifestTests(LiveServer server)
         Assert.Equal("None", Str(svc["spec"]!["clusterIP"]));
         Assert.True(Selects(svc["spec"]!["selector"], PodLabels));
         var port = Assert.Single(svc["spec"]!["ports"]!.AsArray())!;
-        Assert.Equal(Shipped.Port.ToString(), Str(port["port"]));
-        Assert.Equal(ContainerPort(Str(port["targetPort"])!), Shipped.Port);
+        Assert.Equal(Shipped.GrpcPort.ToString(), Str(port["port"]));
+        Assert.Equal(ContainerPort(Str(port["targetPort"])!), Shipped.GrpcPort);
         // The HTTP service too selects the pods and reaches the HTTP port.
         var http = Object("Service", "pathservice-http");
         Assert.True(Selects(http["spec"]!["selector"], PodLabels));

@@ -26,7 +26,7 @@ public sealed class LiveServer : IAsyncLifetime
 
     public async Task InitializeAsync()
     {
-        App = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
+        App = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=0",
             "--Serilog:MinimumLevel:Default=Warning"]);
         await App.StartAsync();
         var ep = App.Services.GetRequiredService<BoundEndpoints>();

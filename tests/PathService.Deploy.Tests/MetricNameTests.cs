@@ -72,8 +72,14 @@ public class MetricNameTests(LiveServer server)
                     string label = l.Groups[1].Value;
                     if (TargetLabels.Contains(label)) continue;
                     Assert.True(labels[sel.Groups[1].Value].Contains(label), $"{where}: {sel.Groups[1].Value} has no label {label}");
-                    if (l.Groups[2].Value == "=" && label == "http_route")
-                        Assert.Contains($"{label}=\"{l.Groups[3].Value}\"", server.MetricsText);
+                    // Label values too: every value a matcher names (each alternative of a regex of plain names) is one the
+                    // server writes, so a renamed status or enum label cannot leave a rule that never matches.
+                    string value = l.Groups[3].Value;
+                    if (value.Length == 0) continue; // "no such label", e.g. error_type="" for successful calls
+                    var values = l.Groups[2].Value is "=" or "!=" ? [value]
+                        : Regex.IsMatch(value, @"^[\w./]+(\|[\w./]+)*$") ? value.Split('|') : [];
+                    foreach (var v in values)
+                        Assert.True(server.MetricsText.Contains($"{label}=\"{v}\"", StringComparison.Ordinal), $"{where}: no series has {label}=\"{v}\"");
                 }
             }
         }
@@ -106,8 +112,8 @@ public class MetricNameTests(LiveServer server)
         AssertExported(exprs);
         string all = string.Join("\n", exprs.Select(r => r.Expr));
         foreach (var m in new[] { "pathservice_analyses_started_total", "pathservice_analyses_active", "pathservice_step_iterations_bucket",
-                     "pathservice_step_cuts_total", "pathservice_divergences_total", "pathservice_factorization_time_seconds_sum",
-                     "pathservice_critical_points_total" })
+                     "pathservice_step_cuts_total", "pathservice_divergences_total", "pathservice_factorization_duration_seconds_sum",
+                     "pathservice_critical_points_total", "pathservice_analysis_duration_seconds_bucket" })
             Assert.Contains(m, all);
     }
 

@@ -32,7 +32,7 @@ public sealed class ConfigurationTests
             WorkingDirectory = Path.GetDirectoryName(dll)!, RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false,
         };
         psi.ArgumentList.Add(dll);
-        foreach (var a in new[] { "--PathService:Port=0", "--PathService:HttpPort=0" }.Concat(settings)) psi.ArgumentList.Add(a);
+        foreach (var a in new[] { "--PathService:GrpcPort=0", "--PathService:HttpPort=0" }.Concat(settings)) psi.ArgumentList.Add(a);
         using var p = Process.Start(psi)!;
         var stdout = p.StandardOutput.ReadToEndAsync();
         var stderr = p.StandardError.ReadToEndAsync();
@@ -117,7 +117,7 @@ public sealed class ConfigurationTests
         Assert.Empty(OptionsValidation.Problems(new PathServiceOptions(), out _));
         var ex = Assert.Throws<ConfigurationRefusedException>(() => ServerHost.Build(
         [
-            "--PathService:ListenAddress=not-an-ip", "--PathService:Port=70000", "--PathService:HttpPort=-2",
+            "--PathService:ListenAddress=not-an-ip", "--PathService:GrpcPort=70000", "--PathService:HttpPort=-2", "--PathService:Limits:MaxSprings=-1",
             "--PathService:Limits:MaxRequestBytes=10", "--PathService:Limits:QueueTimeoutSeconds=-1", "--PathService:Shutdown:GraceSeconds=-3",
             "--PathService:Telemetry:OtlpEndpoint=collector:4317", "--PathService:Telemetry:PrometheusPath=metrics",
             "--PathService:Security:ApiKeys:Keys:0:Name=x", "--PathService:Security:ApiKeys:Keys:0:KeySha256=abc",
@@ -125,9 +125,21 @@ public sealed class ConfigurationTests
         ]));
         string[] keys =
         [
-            "ListenAddress", "Port", "HttpPort", "Limits:MaxRequestBytes", "Limits:QueueTimeoutSeconds", "Shutdown:GraceSeconds",
+            "ListenAddress", "GrpcPort", "HttpPort", "Limits:MaxSprings", "Limits:MaxRequestBytes", "Limits:QueueTimeoutSeconds", "Shutdown:GraceSeconds",
             "Telemetry:OtlpEndpoint", "Telemetry:PrometheusPath", "Security:ApiKeys:Keys:0:KeySha256", "Security:ApiKeys:Keys:",
         ];
         foreach (var k in keys) Assert.Contains(ex.Problems, p => p.StartsWith("PathService:" + k, StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void The_retired_port_key_is_refused_with_its_new_name_rather_than_ignored()
+    {
+        // An old manifest's PathService__Port would otherwise leave the server on the default gRPC port.
+        var ex = Assert.Throws<ConfigurationRefusedException>(() => ServerHost.Build(
+            ["--PathService:ListenAddress=127.0.0.1", "--PathService:Port=6000", "--PathService:GrpcPort=0", "--PathService:HttpPort=-1"]));
+        var problem = Assert.Single(ex.Problems);
+        Assert.StartsWith("PathService:Port is no longer read", problem);
+        Assert.Contains("PathService:GrpcPort", problem);
+        Assert.Contains("PathService__GrpcPort", problem);
     }
 }

@@ -7,8 +7,8 @@ using Xunit.Abstractions;
 namespace PathService.Server.Tests;
 
 /// <summary>
-/// Deadlines and cancellations are the caller's doing: each is counted under its own reason (DeadlineExceeded or
-/// Cancelled, never an exception type that the server-fault alert selects) and logged below Error, however the race
+/// Deadlines and cancellations are the caller's doing: each is counted under its own error.type (DEADLINE_EXCEEDED or
+/// CANCELLED, never an exception type that the server-fault alert selects) and logged below Error, however the race
 /// between the expiry and the stream's last write falls.
 /// </summary>
 [Collection(ServerCollection.Name)]
@@ -26,7 +26,7 @@ public sealed class DeadlineAccountingTests(ServerFixture server, ITestOutputHel
         foreach (var s in metrics.Where(s => s.Name == "pathservice.analyses.failed"))
             foreach (var p in s.MetricPoints)
             {
-                string reason = Tag(p, "reason") ?? "?";
+                string reason = Tag(p, "error.type") ?? "?";
                 byReason[reason] = byReason.GetValueOrDefault(reason) + p.GetSumLong();
             }
         return byReason.Where(kv => kv.Value > 0).ToDictionary();
@@ -67,9 +67,9 @@ public sealed class DeadlineAccountingTests(ServerFixture server, ITestOutputHel
         finally { Console.SetOut(original); }
         var failed = FailedByReason(server.CollectMetrics());
         output.WriteLine($"client statuses: {string.Join(", ", statuses.Select(kv => $"{kv.Key} {kv.Value}"))}; server reasons: {string.Join(", ", failed.Select(kv => $"{kv.Key} {kv.Value}"))}");
-        Assert.True(failed.GetValueOrDefault("DeadlineExceeded") >= 150, $"only {failed.GetValueOrDefault("DeadlineExceeded")} counted as DeadlineExceeded");
+        Assert.True(failed.GetValueOrDefault("DEADLINE_EXCEEDED") >= 150, $"only {failed.GetValueOrDefault("DEADLINE_EXCEEDED")} counted as DEADLINE_EXCEEDED");
         // Nothing else than deadlines (and, rarely, a busy refusal when a slot was not yet free).
-        Assert.All(failed.Keys, k => Assert.Contains(k, new[] { "DeadlineExceeded", "ResourceExhausted" }));
+        Assert.All(failed.Keys, k => Assert.Contains(k, new[] { "DEADLINE_EXCEEDED", "RESOURCE_EXHAUSTED" }));
         string logs = captured.ToString();
         Assert.DoesNotContain("\"@l\":\"Error\"", logs);
         Assert.DoesNotContain("failed unexpectedly", logs);
@@ -90,7 +90,7 @@ public sealed class DeadlineAccountingTests(ServerFixture server, ITestOutputHel
         }
         await Task.Delay(200);
         var failed = FailedByReason(server.CollectMetrics());
-        Assert.Equal(5, failed.GetValueOrDefault("Cancelled"));
+        Assert.Equal(5, failed.GetValueOrDefault("CANCELLED"));
         Assert.False(failed.ContainsKey("DeadlineExceeded"));
     }
 

@@ -130,7 +130,7 @@ public sealed class DeterminismTests(ServerFixture server, ITestOutputHelper out
             using (var l = new TcpListener(IPAddress.Loopback, 0)) { l.Start(); port = ((IPEndPoint)l.LocalEndpoint).Port; }
             var psi = new ProcessStartInfo("dotnet") { UseShellExecute = false, RedirectStandardOutput = true, RedirectStandardError = true };
             psi.ArgumentList.Add(Path.Combine(AppContext.BaseDirectory, "PathService.Server.dll"));
-            foreach (var a in new[] { "--PathService:ListenAddress=127.0.0.1", $"--PathService:Port={port}", "--PathService:HttpPort=-1", "--Serilog:MinimumLevel:Default=Warning" })
+            foreach (var a in new[] { "--PathService:ListenAddress=127.0.0.1", $"--PathService:GrpcPort={port}", "--PathService:HttpPort=-1", "--Serilog:MinimumLevel:Default=Warning" })
                 psi.ArgumentList.Add(a);
             psi.Environment["DOTNET_PROCESSOR_COUNT"] = processors.ToString(System.Globalization.CultureInfo.InvariantCulture);
             var s = new ChildServer { _process = Process.Start(psi)! };

@@ -60,6 +60,24 @@ public sealed class LimitsTests : IAsyncLifetime
     }
 
     [Fact]
+    public void Springs_have_a_limit_of_their_own_and_do_not_count_against_bars()
+    {
+        var limits = new RequestLimits(Microsoft.Extensions.Options.Options.Create(new PathService.Server.Configuration.PathServiceOptions
+        {
+            Limits = { MaxBars = 1, MaxSprings = 3 },
+        }));
+        var model = new StructureModel { Bars = { new Bar() } };
+        for (int i = 0; i < 2; i++) model.GroundSprings.Add(new GroundSpring());
+        model.LinkSprings.Add(new LinkSpring());
+        limits.CheckModelSize(model); // three springs beside one bar: within MaxSprings, whatever MaxBars is
+        model.LinkSprings.Add(new LinkSpring());
+        var ex = Assert.Throws<RpcException>(() => limits.CheckModelSize(model));
+        AssertQuota(ex, "model.springs");
+        Assert.Contains("4 springs (2 ground springs, 2 link springs)", ex.Status.Detail);
+        Assert.Contains("at most 3 springs", ex.Status.Detail);
+    }
+
+    [Fact]
     public async Task More_points_than_the_limit_are_refused()
     {
         var request = Requests.Truss();

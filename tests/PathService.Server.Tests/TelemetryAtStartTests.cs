@@ -43,13 +43,19 @@ public sealed class TelemetryAtStartTests
         Assert.Equal(0, Value(text, "pathservice_analyses_queued"));
         foreach (var rpc in PathServiceTelemetry.AnalysisRpcs)
         {
-            Assert.Equal(0, Value(text, "pathservice_analyses_started_total", ("rpc", rpc)));
-            foreach (var reason in PathServiceTelemetry.ExpectedFailureReasons)
-                Assert.Equal(0, Value(text, "pathservice_analyses_failed_total", ("rpc", rpc), ("reason", reason)));
+            Assert.Equal(0, Value(text, "pathservice_analyses_started_total", ("rpc_method", rpc)));
+            Assert.Equal(0, Value(text, "pathservice_writes_stalled_total", ("rpc_method", rpc)));
+            foreach (var error in PathServiceTelemetry.ExpectedErrorTypes)
+                Assert.Equal(0, Value(text, "pathservice_analyses_failed_total", ("rpc_method", rpc), ("error_type", error)));
         }
-        Assert.Equal(0, Value(text, "pathservice_analyses_completed_total", ("rpc", "TracePath"), ("outcome", "Diverged")));
-        Assert.Equal(0, Value(text, "pathservice_authentication_failures_total", ("reason", "MissingKey")));
-        foreach (var name in new[] { "pathservice_steps_total", "pathservice_divergences_total", "pathservice_step_cuts_total", "pathservice_critical_points_total" })
+        Assert.Equal(0, Value(text, "pathservice_analyses_started_total", ("rpc_service", "pathservice.v1.StructuralPathService"), ("rpc_method", "TracePath")));
+        Assert.Equal(0, Value(text, "pathservice_analyses_failed_total", ("rpc_method", "TracePath"), ("error_type", "INVALID_ARGUMENT")));
+        Assert.Equal(0, Value(text, "pathservice_analyses_completed_total", ("rpc_method", "TracePath"), ("pathservice_outcome", "diverged")));
+        Assert.Equal(0, Value(text, "pathservice_analyses_completed_total", ("rpc_method", "TracePath"), ("pathservice_outcome", "target_load_factor_reached")));
+        Assert.Equal(0, Value(text, "pathservice_authentication_failures_total", ("error_type", "UNAUTHENTICATED")));
+        Assert.Equal(0, Value(text, "pathservice_step_cuts_total", ("pathservice_cut_reason", "max_iterations")));
+        Assert.Equal(0, Value(text, "pathservice_critical_points_total", ("pathservice_critical_point_kind", "limit_point")));
+        foreach (var name in new[] { "pathservice_steps_total", "pathservice_divergences_total", "pathservice_step_cuts_total", "pathservice_critical_points_total", "pathservice_solve_refinements_total" })
             Assert.Equal(0, Value(text, name));
 
         // Every counter and gauge the alert rules and the autoscaler read is there (histograms appear with their first observation).
@@ -96,12 +102,17 @@ public sealed class TelemetryAtStartTests
         }
 
         string text = await ScrapeAsync(server);
-        Assert.Equal(1, Value(text, "pathservice_authentication_failures_total", ("reason", "MissingKey")));
-        Assert.Equal(1, Value(text, "pathservice_authentication_failures_total", ("reason", "UnknownKey")));
+        Assert.Equal(1, Value(text, "pathservice_authentication_failures_total", ("error_type", "UNAUTHENTICATED")));
+        Assert.Equal(1, Value(text, "pathservice_authentication_failures_total", ("error_type", "PERMISSION_DENIED")));
         // The completed truss trace: its duration is in every bucket from its own up to the last finite one, 45 s (MaxTraceSeconds).
-        Assert.Equal(1, Value(text, "pathservice_analysis_duration_seconds_bucket", ("rpc", "TracePath"), ("status", "OK"), ("le", "45")));
-        var bounds = Regex.Matches(text, @"^pathservice_analysis_duration_seconds_bucket\{[^}]*status=""OK""[^}]*le=""([^""]+)""", RegexOptions.Multiline)
-            .Select(m => m.Groups[1].Value).Distinct().ToList();
+        // A successful call's series has no error_type (OpenTelemetry's convention): the one without it.
+        var ok = Regex.Matches(text, @"^pathservice_analysis_duration_seconds_bucket\{([^}]*)\} ([^ \n]+)", RegexOptions.Multiline)
+            .Where(m => m.Groups[1].Value.Contains("rpc_method=\"TracePath\"", StringComparison.Ordinal) && !m.Groups[1].Value.Contains("error_type=", StringComparison.Ordinal))
+            .ToList();
+        Assert.Equal("1", Assert.Single(ok, m => m.Groups[1].Value.Contains("le=\"45\"", StringComparison.Ordinal)).Groups[2].Value);
+        var bounds = Regex.Matches(text, @"^pathservice_analysis_duration_seconds_bucket\{([^}]*)le=""([^""]+)""", RegexOptions.Multiline)
+            .Where(m => !m.Groups[1].Value.Contains("error_type=", StringComparison.Ordinal)).Select(m => m.Groups[2].Value)
+            .Distinct().ToList();
         Assert.Equal(["45", "+Inf"], bounds.TakeLast(2));
     }
 

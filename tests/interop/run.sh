@@ -14,7 +14,7 @@ port="$(node -e 'const s=require("net").createServer();s.listen(0,"127.0.0.1",()
 log="$(mktemp)"
 
 dotnet "$bin/PathService.Server.dll" --contentRoot "$bin" \
-  --PathService:ListenAddress=127.0.0.1 --PathService:Port="$port" --PathService:HttpPort=-1 >"$log" 2>&1 &
+  --PathService:ListenAddress=127.0.0.1 --PathService:GrpcPort="$port" --PathService:HttpPort=-1 >"$log" 2>&1 &
 server=$!
 stop() { kill "$server" 2>/dev/null || true; wait "$server" 2>/dev/null || true; rm -f "$log"; }
 trap stop EXIT

@@ -30,13 +30,14 @@ public static class OptionsValidation
 
         bool ipOk = IPAddress.TryParse(o.ListenAddress, out var ip);
         Need(ipOk, "ListenAddress", $"is '{LogText.Cut(o.ListenAddress)}'; it must be an IP address such as 0.0.0.0 or 127.0.0.1");
-        Need(o.Port is >= 0 and <= 65535, "Port", $"is {o.Port}; it must be 0 (a free port) to 65535");
+        Need(o.GrpcPort is >= 0 and <= 65535, "GrpcPort", $"is {o.GrpcPort}; it must be 0 (a free port) to 65535");
         Need(o.HttpPort is >= -1 and <= 65535, "HttpPort", $"is {o.HttpPort}; it must be -1 (off), 0 (a free port) or up to 65535");
-        Need(o.Port == 0 || o.Port != o.HttpPort, "HttpPort", $"is the gRPC port {o.Port}; the two endpoints need different ports");
+        Need(o.GrpcPort == 0 || o.GrpcPort != o.HttpPort, "HttpPort", $"is the gRPC port {o.GrpcPort}; the two endpoints need different ports");
 
         var l = o.Limits;
         Need(l.MaxNodes >= 1, "Limits:MaxNodes", $"is {l.MaxNodes}; it must be at least 1");
         Need(l.MaxBars >= 1, "Limits:MaxBars", $"is {l.MaxBars}; it must be at least 1");
+        Need(l.MaxSprings >= 0, "Limits:MaxSprings", $"is {l.MaxSprings}; it must be 0 (no springs accepted) or more");
         Need(l.MaxPoints >= 1, "Limits:MaxPoints", $"is {l.MaxPoints}; it must be at least 1");
         Need(l.MaxConcurrentAnalyses >= 1, "Limits:MaxConcurrentAnalyses", $"is {l.MaxConcurrentAnalyses}; it must be at least 1");
         Need(double.IsFinite(l.RetryAfterSeconds) && l.RetryAfterSeconds > 0, "Limits:RetryAfterSeconds", $"is {l.RetryAfterSeconds}; it must be a positive number of seconds");
@@ -100,6 +101,21 @@ public static class OptionsValidation
                          $"Configure Security:Tls, listen on loopback, or set {P}Security:AllowKeysOverCleartext=true (e.g. behind a TLS-terminating proxy or mesh)");
         return problems;
     }
+
+    /// <summary>
+    /// Keys renamed in contract v1, with their new names. A retired key that is still set is refused rather than
+    /// ignored: an old manifest's PathService__Port=6000 would otherwise leave the server on the default port.
+    /// </summary>
+    public static readonly IReadOnlyDictionary<string, string> RetiredKeys = new Dictionary<string, string>
+    {
+        ["Port"] = "GrpcPort",
+    };
+
+    /// <summary>One problem per retired key still present in the "PathService" section.</summary>
+    public static List<string> RetiredKeyProblems(Microsoft.Extensions.Configuration.IConfiguration section) =>
+        RetiredKeys.Where(k => section[k.Key] is not null)
+            .Select(k => $"{P}{k.Key} is no longer read; it was renamed {P}{k.Value} (environment variable {PathServiceOptions.Section}__{k.Value.Replace(":", "__")})")
+            .ToList();
 
     /// <summary>PKCS#12 (with an optional password) or a PEM certificate with its PEM key.</summary>
     public static X509Certificate2 LoadCertificate(TlsOptions tls)

@@ -2,7 +2,7 @@ namespace PathService.Server.Configuration;
 
 /// <summary>
 /// Settings of the service, bound from the "PathService" configuration section (appsettings.json, then environment
-/// variables such as <c>PathService__Port</c> or <c>PathService__Limits__MaxBars</c>, then command-line arguments).
+/// variables such as <c>PathService__GrpcPort</c> or <c>PathService__Limits__MaxBars</c>, then command-line arguments).
 /// </summary>
 public sealed class PathServiceOptions
 {
@@ -11,8 +11,11 @@ public sealed class PathServiceOptions
     /// <summary>Address Kestrel listens on. 0.0.0.0 for every interface, 127.0.0.1 for loopback only.</summary>
     public string ListenAddress { get; set; } = "0.0.0.0";
 
-    /// <summary>Port of the gRPC endpoint (HTTP/2 cleartext, prior knowledge). 0 picks a free port.</summary>
-    public int Port { get; set; } = 5180;
+    /// <summary>
+    /// Port of the gRPC endpoint (HTTP/2 cleartext, prior knowledge; HTTP/2 by ALPN with TLS). 0 picks a free port.
+    /// Named for its protocol beside <see cref="HttpPort"/>; the key was <c>Port</c> before contract v1, which is refused.
+    /// </summary>
+    public int GrpcPort { get; set; } = 5180;
 
     /// <summary>
     /// Port of the HTTP/1.1 endpoint for JSON transcoding and the Prometheus scrape; -1 disables it, 0 picks a free port.
@@ -34,6 +37,8 @@ public sealed class LimitOptions
 {
     public int MaxNodes { get; set; } = 20_000;
     public int MaxBars { get; set; } = 60_000;
+    /// <summary>Largest number of springs (ground springs plus link springs) in one model; springs are not counted against <see cref="MaxBars"/>.</summary>
+    public int MaxSprings { get; set; } = 20_000;
     /// <summary>Upper bound of controls.max_points; also the default when the caller leaves it unset and it is below 100.</summary>
     public int MaxPoints { get; set; } = 5_000;
     /// <summary>Analyses (trace, linear, buckling) running at once; the machine's cores are the natural choice.</summary>
@@ -44,7 +49,7 @@ public sealed class LimitOptions
     public int MaxBucklingModes { get; set; } = 20;
     /// <summary>
     /// Wall-time cap of one trace, and of one AnalyzeLinear or FindBucklingModes call, in seconds (0 = none); a caller's
-    /// smaller wall_time_limit wins. The call holds its slot at most this long plus a short grace, blocked writes included.
+    /// smaller wall_time_limit wins. The call holds its slot at most this long plus a short margin (5 %, 1 to 5 s), blocked writes included.
     /// </summary>
     public double MaxTraceSeconds { get; set; } = 600;
     /// <summary>Largest accepted request message in bytes (Kestrel's gRPC MaxReceiveMessageSize); beyond it RESOURCE_EXHAUSTED.</summary>
@@ -127,8 +132,9 @@ public sealed class ApiKeyEntry
 public sealed class ShutdownOptions
 {
     /// <summary>
-    /// On stop, health turns NOT_SERVING and new analyses are refused with UNAVAILABLE; running analyses get this many
-    /// seconds to finish, then they are cancelled.
+    /// The grace period, in seconds: on stop, health turns NOT_SERVING and new analyses are refused with UNAVAILABLE;
+    /// running analyses get this long to finish, then they are cancelled. The host's shutdown timeout is the grace
+    /// period plus 15 s, and a pod's terminationGracePeriodSeconds must exceed that plus its preStop pause.
     /// </summary>
     public double GraceSeconds { get; set; } = 20;
 }

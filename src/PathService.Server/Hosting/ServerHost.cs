@@ -21,7 +21,7 @@ public static class ServerHost
     /// <summary>Name under which the analysis service reports its health (besides the overall "").</summary>
     public const string HealthServiceName = "pathservice.v1.StructuralPathService";
 
-    /// <param name="args">Command-line arguments; any configuration key may be given, e.g. <c>--PathService:Port=0</c>.</param>
+    /// <param name="args">Command-line arguments; any configuration key may be given, e.g. <c>--PathService:GrpcPort=0</c>.</param>
     /// <param name="customize">Hook for tests: extra services (e.g. an in-memory metrics exporter) before the build.</param>
     public static WebApplication Build(string[] args, Action<WebApplicationBuilder>? customize = null)
     {
@@ -33,14 +33,15 @@ public static class ServerHost
         PathService.Engine.Sparse.ComputeBudget.Capacity = options.Limits.ComputeThreads > 0 ? options.Limits.ComputeThreads : Environment.ProcessorCount;
 
         // Refuse bad settings at start, each named, rather than clamping them or failing at the first call.
-        var problems = OptionsValidation.Problems(options, out var certificate);
+        var problems = OptionsValidation.RetiredKeyProblems(section);
+        problems.AddRange(OptionsValidation.Problems(options, out var certificate));
         if (problems.Count > 0) throw new ConfigurationRefusedException(problems);
         var endpoints = new BoundEndpoints { Tls = certificate is not null };
         builder.Services.AddSingleton(endpoints);
         builder.WebHost.ConfigureKestrel(k =>
         {
             var ip = IPAddress.Parse(options.ListenAddress);
-            k.Listen(ip, options.Port, l =>
+            k.Listen(ip, options.GrpcPort, l =>
             {
                 endpoints.GrpcListen = l;
                 if (certificate is null)
@@ -62,8 +63,8 @@ public static class ServerHost
                     if (certificate is not null) l.UseHttps(certificate);
                 });
         });
-        // The host waits for the grace period of running analyses plus a margin before it gives up on stopping.
-        builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = TimeSpan.FromSeconds(Math.Max(0, options.Shutdown.GraceSeconds) + 15));
+        // The host waits for the grace period (Shutdown:GraceSeconds) plus the 10 s cancellation wait and a margin before it gives up on stopping.
+        builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = ShutdownTimeout(options.Shutdown.GraceSeconds));
 
         builder.AddPathServiceTelemetry(options.Telemetry);
         builder.Services.AddGrpc(o =>
@@ -120,6 +121,13 @@ public static class ServerHost
         _ = app.Services.GetService<ExportFailureLog>();
         return app;
     }
+
+    /// <summary>
+    /// The host's shutdown timeout for a grace period of <paramref name="graceSeconds"/>: the grace period, then up to
+    /// 10 s for cancelled analyses to let go, then 5 s for Kestrel to stop. It supersedes the .NET shutdownTimeoutSeconds
+    /// setting; a pod's terminationGracePeriodSeconds must exceed it plus the preStop pause.
+    /// </summary>
+    public static TimeSpan ShutdownTimeout(double graceSeconds) => TimeSpan.FromSeconds(Math.Max(0, graceSeconds) + 15);
 
     /// <summary>
     /// Level of the one-line request log: a request the client aborted (during the upload or while the answer was

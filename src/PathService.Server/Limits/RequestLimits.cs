@@ -14,7 +14,7 @@ public sealed class RequestLimits(IOptions<PathServiceOptions> options)
 
     public LimitOptions Values => _l;
 
-    /// <summary>Throws RESOURCE_EXHAUSTED when the model has more nodes or bars than the server accepts.</summary>
+    /// <summary>Throws RESOURCE_EXHAUSTED when the model has more nodes, bars, springs or supports than the server accepts.</summary>
     public void CheckModelSize(StructureModel? model)
     {
         if (model is null) return;
@@ -22,9 +22,11 @@ public sealed class RequestLimits(IOptions<PathServiceOptions> options)
             throw RpcErrors.TooLarge("model.nodes", "model.nodes", $"the model has {model.Nodes.Count} nodes; this server accepts at most {_l.MaxNodes}");
         if (model.Bars.Count > _l.MaxBars)
             throw RpcErrors.TooLarge("model.bars", "model.bars", $"the model has {model.Bars.Count} bars; this server accepts at most {_l.MaxBars}");
+        // Springs have a limit of their own (Limits:MaxSprings): ground and link springs together.
         int springs = model.GroundSprings.Count + model.LinkSprings.Count;
-        if (springs > _l.MaxBars)
-            throw RpcErrors.TooLarge("model.ground_springs", "model.springs", $"the model has {springs} springs; this server accepts at most {_l.MaxBars}");
+        if (springs > _l.MaxSprings)
+            throw RpcErrors.TooLarge(model.GroundSprings.Count >= model.LinkSprings.Count ? "model.ground_springs" : "model.link_springs", "model.springs",
+                $"the model has {springs} springs ({model.GroundSprings.Count} ground springs, {model.LinkSprings.Count} link springs); this server accepts at most {_l.MaxSprings} springs");
         if (model.Supports.Count > 3 * _l.MaxNodes)
             throw RpcErrors.TooLarge("model.supports", "model.supports", $"the model has {model.Supports.Count} supports; this server accepts at most {3 * _l.MaxNodes}");
     }

@@ -54,11 +54,11 @@ public sealed class CallPolicy(ApiKeyAuthenticator keys, PathServiceTelemetry te
                 caller = known!;
                 return CallAdmission.Accepted;
             case KeyCheck.Missing:
-                telemetry.AuthenticationFailures.Add(1, new KeyValuePair<string, object?>("reason", "MissingKey"));
+                telemetry.RecordAuthenticationFailure(StatusCode.Unauthenticated);
                 logger.LogInformation("Refused {Method}: no API key", LogText.Cut(method));
                 return CallAdmission.Missing;
             default:
-                telemetry.AuthenticationFailures.Add(1, new KeyValuePair<string, object?>("reason", "UnknownKey"));
+                telemetry.RecordAuthenticationFailure(StatusCode.PermissionDenied);
                 logger.LogWarning("Refused {Method}: unknown API key", LogText.Cut(method));
                 return CallAdmission.Rejected;
         }

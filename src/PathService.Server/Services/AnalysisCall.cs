@@ -97,7 +97,7 @@ public sealed class AnalysisCall : IDisposable
             return; // the caller was reading after all; a time bound now ends the call with its status
         }
         catch (TimeoutException) { }
-        _telemetry.StalledWrites.Add(1, new KeyValuePair<string, object?>("rpc", _rpc));
+        _telemetry.RecordStalledWrite(_rpc);
         // The write stays pending until the stream is reset; observe its failure so it is not reported as unobserved.
         _ = write.ContinueWith(static t => _ = t.Exception, CancellationToken.None, TaskContinuationOptions.OnlyOnFaulted | TaskContinuationOptions.ExecuteSynchronously, TaskScheduler.Default);
         _token.Cancel();

@@ -36,8 +36,8 @@ public sealed class AnalysisFrame(
         using var activity = PathServiceTelemetry.Source.StartActivity($"pathservice.{rpc}", ActivityKind.Internal);
         activity?.SetTag("pathservice.nodes", model?.Nodes.Count ?? 0);
         activity?.SetTag("pathservice.bars", model?.Bars.Count ?? 0);
-        var rpcTag = new KeyValuePair<string, object?>("rpc", rpc);
-        telemetry.AnalysesStarted.Add(1, rpcTag);
+        PathServiceTelemetry.TagRpc(activity, rpc);
+        telemetry.RecordStarted(rpc);
         var caller = ApiKeyInterceptor.CallerOf(context);
         // Log scope: counts, a truncated model name and the caller's name; never the model itself, never a key.
         using var scope = logger.BeginScope(new Dictionary<string, object?>
@@ -75,17 +75,17 @@ public sealed class AnalysisFrame(
                 throw call.Exceeded("the analysis");
             }
             finally { telemetry.AnalysesActive.Add(-1); }
-            telemetry.AnalysesCompleted.Add(1, rpcTag, new("outcome", outcome));
-            telemetry.AnalysisDuration.Record(Stopwatch.GetElapsedTime(started).TotalSeconds, rpcTag, new("status", "OK"));
-            activity?.SetTag("pathservice.outcome", outcome);
+            telemetry.RecordCompleted(rpc, outcome, Stopwatch.GetElapsedTime(started).TotalSeconds);
+            activity?.SetTag(PathServiceTelemetry.Attributes.Outcome, PathServiceTelemetry.OutcomeLabel(outcome));
         }
         catch (Exception ex)
         {
             var rpcEx = Translate(ex, context, shutdown.AbortToken);
-            string reason = rpcEx?.StatusCode.ToString() ?? ex.GetType().Name;
-            telemetry.AnalysesFailed.Add(1, rpcTag, new("reason", reason));
-            telemetry.AnalysisDuration.Record(Stopwatch.GetElapsedTime(started).TotalSeconds, rpcTag, new("status", reason));
-            activity?.SetStatus(ActivityStatusCode.Error, reason);
+            // error.type: the gRPC status name, or the exception's type for a server fault (OpenTelemetry conventions).
+            string errorType = rpcEx is null ? PathServiceTelemetry.ExceptionType(ex) : PathServiceTelemetry.StatusName(rpcEx.StatusCode);
+            telemetry.RecordFailed(rpc, errorType, Stopwatch.GetElapsedTime(started).TotalSeconds);
+            activity?.SetTag(PathServiceTelemetry.Attributes.ErrorType, errorType);
+            activity?.SetStatus(ActivityStatusCode.Error, errorType);
             if (rpcEx is null)
             {
                 // A genuine server fault. Logged with its type and stack but without the exception message, which may

@@ -103,7 +103,7 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
                 // critical point whose location was interrupted): only the summary goes on. A restarted trace must
                 // repeat the stream exactly, and clients compare it bit for bit.
                 if (ct.IsCancellationRequested && e is not PathSummary) continue;
-                Record(e, activity);
+                telemetry.Record(e, activity);
                 if (e is PathSummary s) summary = s;
                 var message = mapper.ToResponse(e);
                 // A non-finite number ends the stream with FAILED_PRECONDITION instead of reaching the caller.
@@ -123,45 +123,5 @@ public sealed class TraceStreamer(PathServiceTelemetry telemetry)
         catch (ChannelClosedException) { }
         catch (Exception ex) { writer.TryComplete(ex); }
         return summary;
-    }
-
-    /// <summary>Metrics and span events, recorded on the worker as the engine produces them.</summary>
-    private void Record(PathEvent e, Activity? activity)
-    {
-        switch (e)
-        {
-            case PathPoint p:
-                if (p.Index > 0)
-                {
-                    telemetry.Steps.Add(1);
-                    telemetry.IterationsPerStep.Record(p.Iterations);
-                }
-                activity?.AddEvent(new ActivityEvent("point", tags: new ActivityTagsCollection
-                {
-                    ["index"] = p.Index, ["load_factor"] = p.LoadFactor, ["iterations"] = p.Iterations,
-                }));
-                break;
-            case StepCut c:
-                telemetry.StepCuts.Add(1, new KeyValuePair<string, object?>("reason", c.Reason.ToString()));
-                activity?.AddEvent(new ActivityEvent("step_cut", tags: new ActivityTagsCollection
-                {
-                    ["step"] = c.Step, ["attempt"] = c.Attempt, ["reason"] = c.Reason.ToString(),
-                }));
-                break;
-            case CriticalPoint cp:
-                telemetry.CriticalPoints.Add(1, new KeyValuePair<string, object?>("kind", cp.Kind.ToString()));
-                activity?.AddEvent(new ActivityEvent("critical_point", tags: new ActivityTagsCollection
-                {
-                    ["kind"] = cp.Kind.ToString(), ["load_factor"] = cp.LoadFactor,
-                }));
-                break;
-            case PathSummary s:
-                if (s.Reason == StopReason.Diverged) telemetry.Divergences.Add(1);
-                telemetry.FactorizationTime.Record(s.FactorizationTime.TotalSeconds);
-                telemetry.SolveRefinements.Add(s.Refinements);
-                activity?.SetTag("pathservice.stop_reason", s.Reason.ToString());
-                activity?.SetTag("pathservice.points", s.Points);
-                break;
-        }
     }
 }

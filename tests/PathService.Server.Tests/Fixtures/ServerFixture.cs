@@ -31,7 +31,7 @@ public sealed class ServerFixture : IAsyncLifetime
     {
         App = ServerHost.Build(
         [
-            "--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
+            "--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=0",
             $"--PathService:Limits:MaxBars={MaxBars}", $"--PathService:Limits:MaxConcurrentAnalyses={MaxConcurrentAnalyses}",
             // No queue: a call beyond the concurrency limit is refused at once (the queue has its own tests).
             "--PathService:Limits:MaxQueuedAnalyses=0",

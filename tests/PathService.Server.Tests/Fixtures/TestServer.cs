@@ -29,7 +29,7 @@ public sealed class TestServer : IAsyncDisposable
     {
         string[] args =
         [
-            "--PathService:ListenAddress=127.0.0.1", "--PathService:Port=0", "--PathService:HttpPort=0",
+            "--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=0",
             "--Serilog:MinimumLevel:Default=Warning",
             .. settings.Select(s => s.StartsWith("--", StringComparison.Ordinal) ? s : "--PathService:" + s),
         ];
