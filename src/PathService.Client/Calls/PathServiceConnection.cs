@@ -230,6 +230,18 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
     /// <summary>The minimal service provider the channel needs to find the resolver (no DI container required).</summary>
     private sealed class SingleServiceProvider(Type type, object instance) : IServiceProvider
     {
-        public object? GetService(Type serviceType) => serviceType == type ? instance : null;
+        public object? GetService(Type serviceType)
+        {
+            if (serviceType == type) return instance;
+            // The channel asks for every registered factory (IEnumerable<ResolverFactory>, IEnumerable<LoadBalancerFactory>).
+            if (serviceType.IsGenericType && serviceType.GetGenericTypeDefinition() == typeof(IEnumerable<>))
+            {
+                var element = serviceType.GetGenericArguments()[0];
+                var list = Array.CreateInstance(element, element == type ? 1 : 0);
+                if (element == type) list.SetValue(instance, 0);
+                return list;
+            }
+            return null;
+        }
     }
 }
