@@ -130,6 +130,7 @@ internal static class CliOptions
         };
         o.CustomParser = r =>
         {
+            if (r.Tokens.Count == 0) return [1];
             var list = new List<int>();
             foreach (var t in (r.Tokens.Count > 0 ? r.Tokens[0].Value : "").Split(',', StringSplitOptions.TrimEntries))
             {

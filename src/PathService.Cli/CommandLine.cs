@@ -57,11 +57,17 @@ internal static class CommandLine
             Amplitudes, AmplitudeUnitName, Span, Modes, Weights, SweepOut);
         sweep.Validators.Add(r =>
         {
+            try { CheckSweep(r); }
+            catch (InvalidOperationException) { } // an option that did not parse has its own error already
+        });
+        static void CheckSweep(System.CommandLine.Parsing.CommandResult r)
+        {
             if (r.GetResult(Span) is not null && r.GetValue(AmplitudeUnitName) != "span-fraction")
                 r.AddError("--span applies only with --amplitude-unit span-fraction");
-            if (r.GetResult(Weights) is not null && r.GetValue(Weights) is { Count: > 0 } w && r.GetValue(Modes) is { } m && w.Count != m.Count)
+            List<int> m = r.GetResult(Modes) is not null && r.GetValue(Modes) is { Count: > 0 } given ? given : [1];
+            if (r.GetResult(Weights) is not null && r.GetValue(Weights) is { Count: > 0 } w && w.Count != m.Count)
                 r.AddError($"--weights gives {w.Count} weights for {m.Count} modes (--modes {string.Join(",", m)}): give one weight per mode");
-        });
+        }
         sweep.SetAction((p, ct) => WithBackend(p, b => ImperfectionSweepCommand.RunAsync(b, RequestReader.Read(p.GetValue(model)!), p, ct)));
 
         foreach (var c in new[] { trace, check, linear, buckling, batch, sweep, demo }) root.Subcommands.Add(c);
