@@ -49,7 +49,7 @@ internal static class CliOptions
     // imperfection-sweep.
     public static readonly Option<List<double>> Amplitudes = Numbers("--amplitudes", "imperfection amplitudes, comma-separated (a sign flips the shape: --amplitudes=-0.001,0.001)", required: true);
     public static readonly Option<string> AmplitudeUnitName = Choice("--amplitude-unit", "what an amplitude measures: a length, or a fraction of the span", "length", "length", "span-fraction");
-    public static readonly Option<double?> Span = Number("--span", "span the fractions refer to (default: the model's largest horizontal extent); only with --amplitude-unit span-fraction", v => v > 0, "a positive length");
+    public static readonly Option<double?> Span = Number("--span", "span the fractions refer to, in the length unit (default: the model's largest extent); only with --amplitude-unit span-fraction", v => v > 0, "a positive length");
     public static readonly Option<List<int>> Modes = ModeNumbers();
     public static readonly Option<List<double>> Weights = Numbers("--weights", "weight of each mode of --modes in the shape, comma-separated (default: all 1)", required: false);
     public static readonly Option<string?> SweepOut = new("--out") { Description = "folder for knockdown.csv and knockdown.svg", HelpName = "DIR" };

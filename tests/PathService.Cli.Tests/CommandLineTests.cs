@@ -69,4 +69,18 @@ public class CommandLineTests
         }
         finally { Directory.Delete(dir, true); }
     }
+
+    [Fact]
+    public void Every_command_and_option_is_documented_in_docs_cli_md()
+    {
+        string doc = File.ReadAllText(Path.Combine(Repo.Root, "docs", "cli.md"));
+        var root = PathService.Cli.CommandLine.Build();
+        foreach (var option in root.Options.Where(o => o.Name is "--server" or "--api-key" or "--ca-file")) Assert.Contains($"`{option.Name}", doc);
+        foreach (var command in root.Subcommands)
+        {
+            Assert.Contains($"`{command.Name}", doc);
+            foreach (var option in command.Options) Assert.Contains($"`{option.Name}", doc);
+        }
+        foreach (var (old, _) in PathService.Cli.CommandLine.RenamedInV1) Assert.Contains($"`{old}", doc); // the "Renamed in v1" table
+    }
 }
