@@ -64,7 +64,7 @@ internal static class BatchCommand
             await foreach (var r in backend.TraceAsync(request, ct)) rec.Add(r);
             var s = rec.Summary;
             var first = rec.Criticals.FirstOrDefault();
-            return new Row(name, request.Model?.Name ?? "", s?.Completed == true ? "completed" : "not-reached", s is null ? "none" : Labels.Of(s.Reason),
+            return new Row(name, request.Model?.Name ?? "", s?.Completed == true ? "completed" : "not_reached", s is null ? "none" : Labels.Of(s.Reason),
                 rec.Points.Count, s?.MaxLoadFactor ?? double.NaN, first?.LoadFactor,
                 first is null ? "" : Labels.Of(first.Kind),
                 rec.Criticals.Count, clock.Elapsed.TotalMilliseconds, "");
