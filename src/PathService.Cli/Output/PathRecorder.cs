@@ -83,6 +83,7 @@ internal sealed class PathRecorder
     /// <summary>The critical point without its full state and mode, which belong in the JSON lines.</summary>
     private static CriticalPoint Strip(CriticalPoint c) { var copy = c.Clone(); copy.State = null; copy.Mode.Clear(); copy.AdditionalModes.Clear(); return copy; }
 
-    public static string Axis(Direction d) => d switch { Direction.X => "x", Direction.Y => "y", Direction.Z => "z", _ => "?" };
+    /// <summary>The axis of a component as people read it: the contract label of its direction (x, y, z).</summary>
+    public static string Axis(Direction d) => Labels.Of(d);
     public static string F(double v) => v.ToString("R", CultureInfo.InvariantCulture);
 }

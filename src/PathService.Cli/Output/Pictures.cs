@@ -28,7 +28,7 @@ internal static class Pictures
         var byIndex = rec.Points.Where(p => p.Monitored.Count > which).GroupBy(p => p.Index).ToDictionary(g => g.Key, g => g.First());
         foreach (var e in rec.MemberEvents)
             if (byIndex.TryGetValue(e.Point, out var at))
-                markers.Add(new CurveMarker(at.Monitored[which].Value, e.LoadFactor, $"member-{e.Kind.ToString().ToLowerInvariant()}", $"{e.Bar} {PathService.Client.Labels.Of(e.Kind)}"));
+                markers.Add(new CurveMarker(at.Monitored[which].Value, e.LoadFactor, $"member-{PathService.Client.Labels.Of(e.Kind)}", $"{e.Bar} {PathService.Client.Labels.Of(e.Kind)}"));
         return LoadDisplacementPlot.Render(new CurveInput(
             $"{Name(request)}: equilibrium path", $"displacement {dof} [{length}]", $"load factor λ (reference load in {force})",
             points, markers, Cautions.Short));
