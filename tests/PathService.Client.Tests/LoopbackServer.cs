@@ -22,5 +22,8 @@ public sealed class LoopbackServer : IAsyncDisposable
         return new LoopbackServer { _app = app, GrpcUrl = new Uri(app.Services.GetRequiredService<BoundEndpoints>().GrpcUrl) };
     }
 
+    /// <summary>Begins a shutdown's draining without stopping: health reports NOT_SERVING, new analyses get UNAVAILABLE.</summary>
+    public Task DrainAsync() => _app.Services.GetRequiredService<ShutdownCoordinator>().StoppingAsync(CancellationToken.None);
+
     public async ValueTask DisposeAsync() => await _app.StopAsync();
 }

@@ -26,16 +26,13 @@ internal sealed class BackendUnavailableException(string message, Exception? inn
 /// <summary>The server refused the caller: no API key (UNAUTHENTICATED) or one it does not accept (PERMISSION_DENIED).</summary>
 internal sealed class AuthenticationFailedException(string message) : Exception(message);
 
-/// <summary>A trace restarted on another instance did not repeat what the first instance had already sent.</summary>
-internal sealed class ReplayMismatchException(string message) : Exception(message);
-
 /// <summary>How to reach a secured server: an API key (sent in <see cref="ApiKeyHeader"/>) and a private CA for TLS.</summary>
 internal sealed record ConnectionSettings(string? ApiKey = null, string? CaFile = null, string ApiKeyHeader = "x-api-key")
 {
     /// <summary>Environment variable read when --api-key is not given.</summary>
     public const string ApiKeyVariable = "PATHSERVICE_API_KEY";
 
-    public static ConnectionSettings From(Options o) => new(
-        o.Get("api-key") ?? (Environment.GetEnvironmentVariable(ApiKeyVariable) is { Length: > 0 } k ? k : null),
-        o.Get("ca-file"));
+    public static ConnectionSettings From(System.CommandLine.ParseResult p) => new(
+        p.GetValue(CliOptions.ApiKey) ?? (Environment.GetEnvironmentVariable(ApiKeyVariable) is { Length: > 0 } k ? k : null),
+        p.GetValue(CliOptions.CaFile));
 }

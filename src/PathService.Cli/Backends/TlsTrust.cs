@@ -1,4 +1,3 @@
-using System.Net.Security;
 using System.Security.Authentication;
 using System.Security.Cryptography.X509Certificates;
 using Grpc.Core;
@@ -6,8 +5,9 @@ using Grpc.Core;
 namespace PathService.Cli.Backends;
 
 /// <summary>
-/// Trust in a server certificate issued by a private certificate authority (--ca-file): the server's chain must end at
-/// that CA (and only that CA), and the certificate must name the host the client connected to.
+/// The command line's side of a private certificate authority (--ca-file): the file is read first so that a missing or
+/// unreadable one is an input error, and a failed handshake is told apart from other failures. The trust decision
+/// itself (chain ending at that CA, host named) is the client library's.
 /// </summary>
 internal static class TlsTrust
 {
@@ -20,18 +20,6 @@ internal static class TlsTrust
         {
             throw new InputException($"{path}: not a readable CA certificate (PEM or DER): {ex.Message}");
         }
-    }
-
-    /// <summary>True when the certificate chains to <paramref name="ca"/> and names the host (no name mismatch).</summary>
-    public static bool Validate(X509Certificate? presented, SslPolicyErrors errors, X509Certificate2 ca)
-    {
-        if (presented is null || (errors & (SslPolicyErrors.RemoteCertificateNameMismatch | SslPolicyErrors.RemoteCertificateNotAvailable)) != 0) return false;
-        using var cert = new X509Certificate2(presented);
-        using var chain = new X509Chain();
-        chain.ChainPolicy.TrustMode = X509ChainTrustMode.CustomRootTrust;
-        chain.ChainPolicy.CustomTrustStore.Add(ca);
-        chain.ChainPolicy.RevocationMode = X509RevocationMode.NoCheck; // a private CA rarely publishes revocation lists
-        return chain.Build(cert);
     }
 
     /// <summary>Whether a failed call failed in the TLS handshake because the server's certificate was not trusted.</summary>

@@ -3,6 +3,9 @@ using System.Globalization;
 using System.Text;
 using PathService.Cli.Backends;
 using PathService.Cli.Output;
+using System.CommandLine;
+using PathService.Client;
+using PathService.Client.Calls;
 using PathService.Contracts.V1;
 
 namespace PathService.Cli.Commands;
@@ -16,11 +19,11 @@ internal static class BatchCommand
     public sealed record Row(string File, string Model, string Outcome, string Reason, int Points, double MaxLoadFactor,
         double? FirstCritical, string FirstKind, int CriticalCount, double WallMs, string Error);
 
-    public static async Task<int> RunAsync(IAnalysisBackend backend, string pattern, Options o, CancellationToken ct)
+    public static async Task<int> RunAsync(IAnalysisBackend backend, string pattern, ParseResult o, CancellationToken ct)
     {
         var files = Expand(pattern);
         if (files.Count == 0) throw new InputException($"{pattern}: no .json or .pb model files found");
-        int parallel = o.GetInt("parallel", Math.Max(2, Environment.ProcessorCount));
+        int parallel = o.GetValue(CliOptions.ModelsAtOnce);
         var rows = new Row[files.Count];
         int done = 0;
         using var gate = new SemaphoreSlim(parallel);
@@ -37,7 +40,7 @@ internal static class BatchCommand
         await Task.WhenAll(tasks);
         Console.Error.WriteLine();
         string csv = ToCsv(rows);
-        string output = o.Get("table") ?? "batch-summary.csv";
+        string output = o.GetValue(CliOptions.Table) ?? "batch-summary.csv";
         File.WriteAllText(output, csv);
         Console.Write(csv);
         Console.WriteLine($"wrote {output}");
@@ -61,9 +64,9 @@ internal static class BatchCommand
             await foreach (var r in backend.TraceAsync(request, ct)) rec.Add(r);
             var s = rec.Summary;
             var first = rec.Criticals.FirstOrDefault();
-            return new Row(name, request.Model?.Name ?? "", s?.Completed == true ? "completed" : "not-reached", s?.Reason.ToString() ?? "none",
+            return new Row(name, request.Model?.Name ?? "", s?.Completed == true ? "completed" : "not_reached", s is null ? "none" : Labels.Of(s.Reason),
                 rec.Points.Count, s?.MaxLoadFactor ?? double.NaN, first?.LoadFactor,
-                first is null ? "" : first.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation",
+                first is null ? "" : Labels.Of(first.Kind),
                 rec.Criticals.Count, clock.Elapsed.TotalMilliseconds, "");
         }
         catch (AnalysisRejectedException ex) when (ex.ResourceLimit)

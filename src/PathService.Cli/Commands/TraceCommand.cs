@@ -1,16 +1,18 @@
 using PathService.Cli.Backends;
 using PathService.Cli.Output;
+using System.CommandLine;
 using PathService.Contracts.V1;
+using static PathService.Cli.CliOptions;
 
 namespace PathService.Cli.Commands;
 
 /// <summary>Traces one model, printing the path live, and writes the requested outputs.</summary>
 internal static class TraceCommand
 {
-    public static async Task<int> RunAsync(IAnalysisBackend backend, TracePathRequest request, Options o, CancellationToken ct)
+    public static async Task<int> RunAsync(IAnalysisBackend backend, TracePathRequest request, ParseResult o, Option<string?> outFolder, CancellationToken ct)
     {
         var rec = new PathRecorder();
-        bool quiet = o.Has("quiet");
+        bool quiet = o.GetValue(Quiet);
         if (!quiet) ConsoleReport.Header(request, backend.Description);
         await foreach (var r in backend.TraceAsync(request, ct))
         {
@@ -18,11 +20,11 @@ internal static class TraceCommand
             if (!quiet) ConsoleReport.Live(r);
         }
         if (!quiet) ConsoleReport.Summary(rec);
-        WriteOutputs(request, rec, o);
+        WriteOutputs(request, rec, o, outFolder);
         return rec.Summary?.Completed == true ? ExitCodes.Success : ExitCodes.TargetNotReached;
     }
 
-    public static void WriteOutputs(TracePathRequest request, PathRecorder rec, Options o)
+    public static void WriteOutputs(TracePathRequest request, PathRecorder rec, ParseResult o, Option<string?> outFolder)
     {
         var written = new List<string>();
         void Write(string? path, Func<string?> content)
@@ -34,23 +36,21 @@ internal static class TraceCommand
             File.WriteAllText(path, text);
             written.Add(path);
         }
-        if (o.Get("out") is { } dir)
+        if (o.GetValue(outFolder) is { } dir)
         {
             Directory.CreateDirectory(dir);
             Write(Path.Combine(dir, "path.csv"), rec.Csv);
             Write(Path.Combine(dir, "path.jsonl"), rec.JsonLines);
             Write(Path.Combine(dir, "summary.json"), rec.SummaryJson);
             Write(Path.Combine(dir, "events.csv"), rec.EventsCsv);
-            Write(Path.Combine(dir, "curve.svg"), () => Pictures.Curve(request, rec, o.GetInt("plot-monitored", 1) - 1));
-            Write(Path.Combine(dir, "shape.svg"), () => Pictures.Shape(request, rec, ShapePoint(o), o.GetDouble("shape-scale")));
+            Write(Path.Combine(dir, "curve.svg"), () => Pictures.Curve(request, rec, o.GetValue(CurveMonitored) - 1));
+            Write(Path.Combine(dir, "shape.svg"), () => Pictures.Shape(request, rec, o.GetValue(ShapeAt), o.GetValue(ShapeScale)));
         }
-        Write(o.Get("csv"), rec.Csv);
-        Write(o.Get("jsonl"), rec.JsonLines);
-        Write(o.Get("summary"), rec.SummaryJson);
-        Write(o.Get("svg"), () => Pictures.Curve(request, rec, o.GetInt("plot-monitored", 1) - 1));
-        Write(o.Get("shape-svg"), () => Pictures.Shape(request, rec, ShapePoint(o), o.GetDouble("shape-scale")));
+        Write(o.GetValue(Csv), rec.Csv);
+        Write(o.GetValue(Jsonl), rec.JsonLines);
+        Write(o.GetValue(Summary), rec.SummaryJson);
+        Write(o.GetValue(CurveSvg), () => Pictures.Curve(request, rec, o.GetValue(CurveMonitored) - 1));
+        Write(o.GetValue(ShapeSvg), () => Pictures.Shape(request, rec, o.GetValue(ShapeAt), o.GetValue(ShapeScale)));
         foreach (var w in written) Console.WriteLine($"wrote {w}");
     }
-
-    private static int? ShapePoint(Options o) => o.Get("shape-at") is { } s ? (int.TryParse(s, out int i) && i >= 0 ? i : throw new UsageException($"--shape-at must be a point index, not '{s}'")) : null;
 }

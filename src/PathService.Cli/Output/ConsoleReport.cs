@@ -1,4 +1,5 @@
 using System.Globalization;
+using PathService.Client;
 using PathService.Contracts.V1;
 
 namespace PathService.Cli.Output;
@@ -9,7 +10,10 @@ internal static class ConsoleReport
     public static void Header(TracePathRequest request, string backend)
     {
         Console.WriteLine($"tracing '{request.Model?.Name}' ({request.Model?.Nodes.Count} nodes, {request.Model?.Bars.Count} bars) on {backend}");
-        Console.WriteLine($"{"point",6} {"λ",14} {"monitored",14} {"iter",5} {"neg.piv",8}  state");
+        // The displacement column is named by its component (node.axis), the first monitored one.
+        var first = request.Controls?.Monitored.FirstOrDefault();
+        string component = first is null ? "displacement" : $"{first.Node}.{PathRecorder.Axis(first.Direction)}";
+        Console.WriteLine($"{"point",6} {"λ",14} {component,14} {"iterations",10} {"negative pivots",15}  stability");
     }
 
     public static void Live(TracePathResponse r)
@@ -19,11 +23,11 @@ internal static class ConsoleReport
             case TracePathResponse.UpdateOneofCase.Point:
                 var p = r.Point;
                 string mon = p.Monitored.Count > 0 ? p.Monitored[0].Value.ToString("G6", CultureInfo.InvariantCulture) : "";
-                Console.WriteLine($"{p.Index,6} {p.LoadFactor,14:G8} {mon,14} {p.Iterations,5} {p.NegativePivots,8}  {(p.Stability == Stability.Stable ? "stable" : "UNSTABLE")}");
+                Console.WriteLine($"{p.Index,6} {p.LoadFactor,14:G8} {mon,14} {p.Iterations,10} {p.NegativePivots,15}  {Labels.Of(p.Stability)}");
                 break;
             case TracePathResponse.UpdateOneofCase.CriticalPoint:
                 var c = r.CriticalPoint;
-                string kind = c.Kind == CriticalPointKind.LimitPoint ? "limit point" : c.Multiplicity > 1 ? $"bifurcation of multiplicity {c.Multiplicity}" : "bifurcation";
+                string kind = c.Multiplicity > 1 ? $"{Labels.Of(c.Kind)} of multiplicity {c.Multiplicity}" : Labels.Of(c.Kind);
                 Console.WriteLine($"  >> {kind} #{c.Sequence} at λ = {c.LoadFactor:G10} (between points {c.PointBefore} and {c.PointAfter}, " +
                                   $"negative pivots {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, load alignment {c.LoadAlignment:G3}, " +
                                   (c.Located ? $"located, estimated error {c.Tolerance:G2})" : $"NOT located: {c.LocationNote})"));
@@ -35,7 +39,7 @@ internal static class ConsoleReport
                 break;
             case TracePathResponse.UpdateOneofCase.MemberEvent:
                 var me = r.MemberEvent;
-                Console.WriteLine($"  !! bar {me.Bar}: {me.Kind.ToString().ToLowerInvariant()} from λ ≈ {me.OnsetLoadFactor:G6} (axial force {me.AxialForce:G5})");
+                Console.WriteLine($"  !! bar {me.Bar}: {Labels.Of(me.Kind)} from λ ≈ {me.OnsetLoadFactor:G6} (axial force {me.AxialForce:G5})");
                 break;
             case TracePathResponse.UpdateOneofCase.BranchStarted:
                 Console.WriteLine($"  => branch {r.BranchStarted.Branch} starts at bifurcation #{r.BranchStarted.CriticalPointSequence} (λ = {r.BranchStarted.LoadFactor:G8})");
@@ -44,7 +48,7 @@ internal static class ConsoleReport
                 Console.WriteLine($"  <= branch {r.BranchEnded.Branch} ended: {r.BranchEnded.Message}");
                 break;
             case TracePathResponse.UpdateOneofCase.StepCut:
-                Console.WriteLine($"  -- step {r.StepCut.Step} cut ({r.StepCut.Reason}): {r.StepCut.Detail}");
+                Console.WriteLine($"  -- step {r.StepCut.Step} cut ({Labels.Of(r.StepCut.Reason)}): {r.StepCut.Detail}");
                 break;
         }
     }
@@ -55,7 +59,7 @@ internal static class ConsoleReport
         if (s is null) { Console.WriteLine("no summary received"); return; }
         Console.WriteLine();
         Console.WriteLine("summary");
-        Row("outcome", $"{s.Reason} — {s.Message}");
+        Row("outcome", $"{Labels.Of(s.Reason)} — {s.Message}");
         Row("points / steps / iterations", $"{s.Points} / {s.Steps} / {s.Iterations}");
         Row("step cuts", s.Cuts.ToString(CultureInfo.InvariantCulture));
         Row("largest λ reached", s.MaxLoadFactor.ToString("G8", CultureInfo.InvariantCulture));
@@ -65,10 +69,10 @@ internal static class ConsoleReport
         if (rec.Criticals.Count > 0)
         {
             Console.WriteLine();
-            Console.WriteLine($"{"#",3} {"kind",-12} {"mult",4} {"λ_cr",16} {"est. error",10} {"bracket (λ before … after)",32} {"alignment",10}");
+            Console.WriteLine($"{"#",3} {"kind",-12} {"multiplicity",12} {"λ_cr",16} {"estimated error",15} {"bracket (λ before … after)",32} {"load alignment",14}");
             foreach (var c in rec.Criticals)
-                Console.WriteLine($"{c.Sequence,3} {(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation"),-12} {Math.Max(1, c.Multiplicity),4} {c.LoadFactor,16:G10} " +
-                                  $"{(c.Located ? c.Tolerance.ToString("G2", CultureInfo.InvariantCulture) : "not located"),10} {$"{c.LoadFactorBefore:G6} … {c.LoadFactorAfter:G6}",32} {c.LoadAlignment,10:G3}");
+                Console.WriteLine($"{c.Sequence,3} {Labels.Of(c.Kind),-12} {Math.Max(1, c.Multiplicity),12} {c.LoadFactor,16:G10} " +
+                                  $"{(c.Located ? c.Tolerance.ToString("G2", CultureInfo.InvariantCulture) : "not located"),15} {$"{c.LoadFactorBefore:G6} … {c.LoadFactorAfter:G6}",32} {c.LoadAlignment,14:G3}");
         }
         if (rec.Turns.Count > 0)
         {

@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text;
 using Google.Protobuf;
+using PathService.Client;
 using PathService.Contracts.V1;
 
 namespace PathService.Cli.Output;
@@ -41,7 +42,7 @@ internal sealed class PathRecorder
             var cells = new List<string> { p.Index.ToString(CultureInfo.InvariantCulture), F(p.LoadFactor), F(p.ArcLength) };
             cells.AddRange(p.Monitored.Select(m => F(m.Value)));
             cells.AddRange([p.Iterations.ToString(CultureInfo.InvariantCulture), F(p.ResidualNorm), p.NegativePivots.ToString(CultureInfo.InvariantCulture),
-                p.Stability == Stability.Stable ? "stable" : "unstable"]);
+                Labels.Of(p.Stability)]);
             sb.AppendLine(string.Join(',', cells));
         }
         return sb.ToString();
@@ -56,7 +57,7 @@ internal sealed class PathRecorder
         var sb = new StringBuilder();
         sb.AppendLine("event,sequence,branch,kind,load_factor,point_before,point_after,negative_pivots_before,negative_pivots_after,multiplicity,located,estimated_error,load_alignment,component,value,note");
         foreach (var c in Criticals)
-            sb.AppendLine(string.Join(',', "critical_point", I(c.Sequence), I(c.Branch), c.Kind == CriticalPointKind.LimitPoint ? "limit_point" : "bifurcation",
+            sb.AppendLine(string.Join(',', "critical_point", I(c.Sequence), I(c.Branch), Labels.Of(c.Kind),
                 F(c.LoadFactor), I(c.PointBefore), I(c.PointAfter), I(c.NegativePivotsBefore), I(c.NegativePivotsAfter), I(Math.Max(1, c.Multiplicity)),
                 c.Located ? "true" : "false", F(c.Tolerance), F(c.LoadAlignment), "", "", Quote(c.LocationNote)));
         foreach (var t in Turns)
@@ -82,6 +83,7 @@ internal sealed class PathRecorder
     /// <summary>The critical point without its full state and mode, which belong in the JSON lines.</summary>
     private static CriticalPoint Strip(CriticalPoint c) { var copy = c.Clone(); copy.State = null; copy.Mode.Clear(); copy.AdditionalModes.Clear(); return copy; }
 
-    public static string Axis(Direction d) => d switch { Direction.X => "x", Direction.Y => "y", Direction.Z => "z", _ => "?" };
+    /// <summary>The axis of a component as people read it: the contract label of its direction (x, y, z).</summary>
+    public static string Axis(Direction d) => Labels.Of(d);
     public static string F(double v) => v.ToString("R", CultureInfo.InvariantCulture);
 }

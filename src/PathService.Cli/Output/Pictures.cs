@@ -23,12 +23,12 @@ internal static class Pictures
         }
         var markers = rec.Criticals.Where(c => c.Monitored.Count > which).Select(c => new CurveMarker(c.Monitored[which].Value, c.LoadFactor,
             c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation",
-            $"{(c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation")} λ = {c.LoadFactor:G5}")).ToList();
+            $"{PathService.Client.Labels.Of(c.Kind)} λ = {c.LoadFactor:G5}")).ToList();
         // Member events sit at the point where they were first seen.
         var byIndex = rec.Points.Where(p => p.Monitored.Count > which).GroupBy(p => p.Index).ToDictionary(g => g.Key, g => g.First());
         foreach (var e in rec.MemberEvents)
             if (byIndex.TryGetValue(e.Point, out var at))
-                markers.Add(new CurveMarker(at.Monitored[which].Value, e.LoadFactor, $"member-{e.Kind.ToString().ToLowerInvariant()}", $"{e.Bar} {e.Kind.ToString().ToLowerInvariant()}"));
+                markers.Add(new CurveMarker(at.Monitored[which].Value, e.LoadFactor, $"member-{PathService.Client.Labels.Of(e.Kind)}", $"{e.Bar} {PathService.Client.Labels.Of(e.Kind)}"));
         return LoadDisplacementPlot.Render(new CurveInput(
             $"{Name(request)}: equilibrium path", $"displacement {dof} [{length}]", $"load factor λ (reference load in {force})",
             points, markers, Cautions.Short));

@@ -18,6 +18,18 @@ public sealed record ConnectionOptions
     /// <summary>How often a trace dropped with UNAVAILABLE, or a unary call refused with it, is retried on another instance.</summary>
     public int Retries { get; init; } = 3;
 
+    /// <summary>
+    /// Where the connection reports what it does about failing instances ("skipping …", "retrying …"), e.g. a
+    /// command-line tool's standard error; null = silent.
+    /// </summary>
+    public Action<string>? Notice { get; init; }
+
+    /// <summary>Service name whose gRPC health decides whether an instance takes a restarted trace.</summary>
+    public string HealthService { get; init; } = "pathservice.v1.StructuralPathService";
+
+    /// <summary>How long a health check before a retry may take before the instance is skipped.</summary>
+    public TimeSpan HealthCheckTimeout { get; init; } = TimeSpan.FromSeconds(3);
+
     /// <summary>Largest response accepted (full states of large models are big).</summary>
     public int MaxReceiveMessageBytes { get; init; } = 64 * 1024 * 1024;
 

@@ -2,7 +2,7 @@ using System.Collections;
 using Google.Protobuf;
 using Google.Protobuf.Reflection;
 
-namespace PathService.Cli.Backends;
+namespace PathService.Client.Calls;
 
 /// <summary>The first field in which two messages of the same type differ, with both values (doubles compared bit for bit).</summary>
 internal static class MessageDiff
