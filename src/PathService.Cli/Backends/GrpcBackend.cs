@@ -50,7 +50,7 @@ internal sealed class GrpcBackend : IAnalysisBackend
         public Uri Address { get; }
         public GrpcChannel Channel { get; }
         public StructuralPathService.StructuralPathServiceClient Client { get; }
-        public ImperfectionStudyService.ImperfectionStudyServiceClient Study { get; }
+        public ImperfectionSweepService.ImperfectionSweepServiceClient Study { get; }
         public Health.HealthClient Health { get; }
 
         public Target(Uri address, X509Certificate2? ca)
@@ -65,7 +65,7 @@ internal sealed class GrpcBackend : IAnalysisBackend
                 MaxReceiveMessageSize = 64 * 1024 * 1024,
             });
             Client = new StructuralPathService.StructuralPathServiceClient(Channel);
-            Study = new ImperfectionStudyService.ImperfectionStudyServiceClient(Channel);
+            Study = new ImperfectionSweepService.ImperfectionSweepServiceClient(Channel);
             Health = new Health.HealthClient(Channel);
         }
     }

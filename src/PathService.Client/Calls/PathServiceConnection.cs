@@ -55,7 +55,7 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
             ? _channel.CreateCallInvoker()
             : _channel.Intercept(new ApiKeyHeaderInterceptor(options.ApiKeyHeader, options.ApiKey));
         Paths = new StructuralPathService.StructuralPathServiceClient(invoker);
-        Studies = new ImperfectionStudyService.ImperfectionStudyServiceClient(invoker);
+        Sweeps = new ImperfectionSweepService.ImperfectionSweepServiceClient(invoker);
         Description = string.Join(", ", options.Addresses);
     }
 
@@ -65,8 +65,8 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
     /// <summary>The generated client of the analysis service, for calls this class does not wrap.</summary>
     public StructuralPathService.StructuralPathServiceClient Paths { get; }
 
-    /// <summary>The generated client of the imperfection study service.</summary>
-    public ImperfectionStudyService.ImperfectionStudyServiceClient Studies { get; }
+    /// <summary>The generated client of the imperfection sweep service.</summary>
+    public ImperfectionSweepService.ImperfectionSweepServiceClient Sweeps { get; }
 
     /// <summary>Streams a trace as it converges; cancel the token to stop the analysis on the server.</summary>
     public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct = default)
@@ -125,7 +125,7 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
     {
         for (int attempt = 0; ; attempt++)
         {
-            using var call = Studies.SweepImperfections(request, cancellationToken: ct);
+            using var call = Sweeps.SweepImperfections(request, cancellationToken: ct);
             bool any = false, retry = false;
             while (true)
             {

@@ -13,8 +13,8 @@ namespace PathService.Server.Services;
 /// streamed as each trace finishes. One analysis slot and one time limit (<c>Limits:MaxSweepSeconds</c>) for the whole
 /// sweep, under the same limits as every analysis.
 /// </summary>
-public sealed class ImperfectionStudyGrpcService(RequestLimits limits, AnalysisFrame frame, ILogger<ImperfectionStudyGrpcService> logger)
-    : ImperfectionStudyService.ImperfectionStudyServiceBase
+public sealed class ImperfectionSweepGrpcService(RequestLimits limits, AnalysisFrame frame, ILogger<ImperfectionSweepGrpcService> logger)
+    : ImperfectionSweepService.ImperfectionSweepServiceBase
 {
     public const int MaxAmplitudes = 50;
 
