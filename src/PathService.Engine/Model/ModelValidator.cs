@@ -135,11 +135,11 @@ public static class ModelValidator
             if (bar.Behavior is not (Elements.BarBehavior.Elastic or Elements.BarBehavior.TensionOnly or Elements.BarBehavior.CompressionOnly))
                 findings.Add(Error(FindingCode.UnknownOption, $"{path}.behavior", id, $"bar '{id}' has an unknown behavior {(int)bar.Behavior}"));
             if (CheckNumber(bar.YieldStress, $"{path}.yield_stress", id, "yield stress", findings) && bar.YieldStress < 0)
-                findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.yield_stress", id, $"bar '{id}' has yield stress {bar.YieldStress}; give a positive value, or 0 for no yielding"));
+                findings.Add(Error(FindingCode.MemberPropertyOutOfRange, $"{path}.yield_stress", id, $"bar '{id}' has yield stress {bar.YieldStress}; give a positive value, or 0 for no yielding"));
             if (CheckNumber(bar.SecondMoment, $"{path}.second_moment", id, "second moment of area", findings) && bar.SecondMoment < 0)
-                findings.Add(Error(FindingCode.NonPositiveArea, $"{path}.second_moment", id, $"bar '{id}' has second moment of area {bar.SecondMoment}; give a positive value, or 0 for no buckling check"));
+                findings.Add(Error(FindingCode.MemberPropertyOutOfRange, $"{path}.second_moment", id, $"bar '{id}' has second moment of area {bar.SecondMoment}; give a positive value, or 0 for no buckling check"));
             if (CheckNumber(bar.EffectiveLengthFactor, $"{path}.effective_length_factor", id, "effective-length factor", findings) && bar.EffectiveLengthFactor <= 0)
-                findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.effective_length_factor", id, $"bar '{id}' has effective-length factor {bar.EffectiveLengthFactor}; it must be positive"));
+                findings.Add(Error(FindingCode.MemberPropertyOutOfRange, $"{path}.effective_length_factor", id, $"bar '{id}' has effective-length factor {bar.EffectiveLengthFactor}; it must be positive"));
             if (CheckNumber(bar.Density, $"{path}.density", id, "density", findings) && bar.Density < 0)
                 findings.Add(Error(FindingCode.NegativeDensity, $"{path}.density", id, $"bar '{id}' has density {bar.Density}; it must be zero or positive"));
         }
@@ -253,7 +253,7 @@ public static class ModelValidator
             {
                 double weight = model.Bars.Where(b => double.IsFinite(b.Density) && b.Density > 0).Sum(b => b.Density * Math.Abs(b.Area));
                 if (weight == 0)
-                    findings.Add(Warning(FindingCode.NegativeDensity, $"{path}.self_weight", set.Name, $"load set '{set.Name}' asks for self-weight but no bar has a density"));
+                    findings.Add(Warning(FindingCode.SelfWeightWithoutDensity, $"{path}.self_weight", set.Name, $"load set '{set.Name}' asks for self-weight but no bar has a density"));
                 size += weight;
             }
             sizes[set.Name] = size;

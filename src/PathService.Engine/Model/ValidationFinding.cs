@@ -25,6 +25,10 @@ public enum FindingCode
     InvalidDirection,
     NegativeDensity,
     UnknownLoadSet,
+    /// <summary>A member-check property out of range: negative yield stress or second moment, non-positive effective-length factor.</summary>
+    MemberPropertyOutOfRange,
+    /// <summary>Warning: a load set asks for self-weight but no bar has a density, so it adds no weight.</summary>
+    SelfWeightWithoutDensity,
     /// <summary>An enum number outside the contract (continuation method, arc-length constraint, bar behavior).</summary>
     UnknownOption,
     /// <summary>A solver control outside its documented range.</summary>

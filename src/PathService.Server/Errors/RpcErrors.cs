@@ -45,11 +45,14 @@ public static class RpcErrors
         return Build(StatusCode.InvalidArgument, message, bad);
     }
 
-    /// <summary>INVALID_ARGUMENT for one request field the engine does not see (e.g. mode_count).</summary>
-    public static RpcException InvalidField(string field, string description) =>
+    /// <summary>
+    /// INVALID_ARGUMENT for one request field the engine does not see (e.g. mode_count), with its reason code
+    /// (docs/api.md, "Error reasons").
+    /// </summary>
+    public static RpcException InvalidField(string field, string reason, string description) =>
         Build(StatusCode.InvalidArgument, description, new BadRequest
         {
-            FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } },
+            FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description, Reason = reason } },
         });
 
     /// <summary>FAILED_PRECONDITION for a structure that is a mechanism: the model is well-formed but cannot carry load.</summary>

@@ -51,4 +51,17 @@ public class LoadCombinationTests
         Assert.Contains(findings, f => f.Code == FindingCode.NegativeDensity && f.FieldPath == "bars[0].density");
         Assert.Contains(findings, f => f.Code == FindingCode.NoReferenceLoad);
     }
+
+    [Fact]
+    public void Self_weight_without_any_density_is_a_warning_of_its_own()
+    {
+        var def = Frame() with
+        {
+            Bars = [new("LT", "L", "T", 2.1e8, 1e-3), new("TR", "T", "R", 2.1e8, 1e-3), new("LR", "L", "R", 2.1e8, 1e-3)],
+            LoadSets = [new LoadSet("permanent", [new NodalLoad("T", 0, 0, -10)], SelfWeight: true)],
+            Combination = new LoadCombination("SLS", [], [new LoadSetFactor("permanent", 1.0)]),
+        };
+        var f = Assert.Single(ModelValidator.Validate(def), x => x.FieldPath == "load_sets[0].self_weight");
+        Assert.Equal((FindingSeverity.Warning, FindingCode.SelfWeightWithoutDensity, "permanent"), (f.Severity, f.Code, f.ItemId));
+    }
 }

@@ -221,6 +221,7 @@ public class MemberAndBranchValidationTests
         Assert.Contains("bars[0].yield_stress", paths);
         Assert.Contains("bars[0].second_moment", paths);
         Assert.Contains("bars[0].effective_length_factor", paths);
+        Assert.All(ModelValidator.Validate(def), f => Assert.Equal(FindingCode.MemberPropertyOutOfRange, f.Code));
     }
 
     [Fact]
