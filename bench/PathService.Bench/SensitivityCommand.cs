@@ -32,7 +32,7 @@ public static class SensitivityCommand
             return 1;
         }
         Console.WriteLine($"roof m = {m}: {model.Dofs.FreeCount} equations, {model.BarCount} bars; first critical point {cp.Kind} at λ = {cp.LoadFactor:G10} (located {cp.Located})");
-        var sys = new EquilibriumSystem(model, controls.TinyPivotRatio);
+        var sys = new EquilibriumSystem(model, controls.SingularPivotRatio);
         var mode = new double[sys.FreeCount];
         model.Dofs.Gather(cp.Mode, mode);
         var u = cp.State.Displacements;

@@ -120,11 +120,11 @@ public class BadRequestTests(ServerFixture server)
         var model = DemoStructures.TwoBarTruss();
         model.Bars[0].Area = 0;
         var ex = await Assert.ThrowsAsync<RpcException>(async () => await server.Client.AnalyzeLinearAsync(new AnalyzeLinearRequest { Model = model, LoadCase = DemoStructures.ApexLoad() }));
-        Violation(ex, "model.bars[0].area");
+        Assert.Equal("NON_POSITIVE_AREA", Violation(ex, "model.bars[0].area").Reason);
         var modes = await Assert.ThrowsAsync<RpcException>(async () => await server.Client.FindBucklingModesAsync(new FindBucklingModesRequest
         {
             Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(), ModeCount = 0,
         }));
-        Violation(modes, "mode_count");
+        Assert.Equal("MODE_COUNT_OUT_OF_RANGE", Violation(modes, "mode_count").Reason);
     }
 }

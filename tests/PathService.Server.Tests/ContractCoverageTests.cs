@@ -86,7 +86,7 @@ public sealed class ContractCoverageTests : IAsyncLifetime
     {
         // A guard against the catalog silently becoming empty (the theories below would then prove nothing).
         Assert.Contains(ContractCatalog.Services, s => s.FullName == "pathservice.v1.StructuralPathService");
-        Assert.Contains(ContractCatalog.Services, s => s.FullName == "pathservice.v1.ImperfectionStudyService");
+        Assert.Contains(ContractCatalog.Services, s => s.FullName == "pathservice.v1.ImperfectionSweepService");
         Assert.Contains(ContractCatalog.Methods, m => m.Name == "SweepImperfections");
         Assert.Equal(5, ContractCatalog.Methods.Count);
         Assert.Equal(3, ContractCatalog.JsonPostRoutes.Count);
@@ -170,7 +170,7 @@ public sealed class ContractCoverageTests : IAsyncLifetime
         try
         {
             Assert.True(await first.ResponseStream.MoveNext());
-            var sweep = new ImperfectionStudyService.ImperfectionStudyServiceClient(_server.Channel);
+            var sweep = new ImperfectionSweepService.ImperfectionSweepServiceClient(_server.Channel);
             using var call = sweep.SweepImperfections(new SweepImperfectionsRequest
             {
                 Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(),

@@ -49,7 +49,7 @@ public sealed class InputFaultTests(ServerFixture server)
         var model = new StructureModel { Name = "strut that cannot settle" };
         model.Nodes.Add(new Node { Id = "anchor", X = -1 });
         model.Nodes.Add(new Node { Id = "slider" });
-        model.Bars.Add(new Bar { Id = "strut", StartNode = "anchor", EndNode = "slider", ElasticModulus = 1e4, Area = 1e-2, InitialStress = 1e3, Behaviour = BarBehaviour.CompressionOnly });
+        model.Bars.Add(new Bar { Id = "strut", StartNode = "anchor", EndNode = "slider", ElasticModulus = 1e4, Area = 1e-2, InitialStress = 1e3, Behavior = BarBehavior.CompressionOnly });
         model.GroundSprings.Add(new GroundSpring { Id = "guide", Node = "slider", Direction = Direction.X, Stiffness = 1 });
         foreach (var d in new[] { Direction.X, Direction.Y, Direction.Z }) model.Supports.Add(new Support { Node = "anchor", Direction = d });
         model.Supports.Add(new Support { Node = "slider", Direction = Direction.Y });
@@ -74,16 +74,16 @@ public sealed class InputFaultTests(ServerFixture server)
     }
 
     [Fact]
-    public async Task Unknown_method_constraint_and_behaviour_numbers_are_quoted_as_sent()
+    public async Task Unknown_method_constraint_and_behavior_numbers_are_quoted_as_sent()
     {
         var request = Requests.Truss();
         request.Controls.Method = (ContinuationMethod)99;
         request.Controls.Constraint = (ArcLengthConstraint)77;
-        request.Model.Bars[0].Behaviour = (BarBehaviour)55;
+        request.Model.Bars[0].Behavior = (BarBehavior)55;
         var ex = await Assert.ThrowsAsync<RpcException>(() => Requests.ReadAllAsync(server.Client.TracePath(request)));
         Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
         var model = await server.Client.CheckModelAsync(new CheckModelRequest { Model = request.Model, LoadCase = request.LoadCase });
-        Assert.Contains(model.Findings, f => f.Field == "model.bars[0].behaviour" && f.Message.Contains("behaviour 55", StringComparison.Ordinal));
+        Assert.Contains(model.Findings, f => f.Field == "model.bars[0].behavior" && f.Message.Contains("behavior 55", StringComparison.Ordinal));
         // Controls are checked once the model is valid.
         var controls = await server.Client.CheckModelAsync(new CheckModelRequest { Model = Requests.Truss().Model, LoadCase = request.LoadCase, Controls = request.Controls });
         Assert.Contains(controls.Findings, f => f.Field == "controls.method" && f.Message.Contains("continuation method 99", StringComparison.Ordinal));

@@ -82,6 +82,38 @@ public sealed class JsonContractTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task The_v1_vocabulary_is_on_the_wire_and_the_old_names_are_refused()
+    {
+        // Load sets and their factors, the bar's behavior: a combination naming an undefined load set is found at its
+        // request path with the code UNKNOWN_LOAD_SET.
+        var request = new CheckModelRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad() };
+        request.Model.Bars[0].Behavior = BarBehavior.TensionAndCompression;
+        request.LoadCase.LoadSets.Add(new LoadSet { Name = "snow", Loads = { new NodalLoad { Node = "apex", Fy = -1 } } });
+        request.LoadCase.Combination = new LoadCombination { Name = "ULS", Reference = { new LoadSetFactor { LoadSet = "wind", Factor = 1.5 } } };
+        string json = JsonFormatter.Default.Format(request);
+        Assert.Contains("\"loadSets\"", json);
+        Assert.Contains("\"loadSet\": \"wind\"", json);
+        Assert.Contains("\"behavior\": \"BAR_BEHAVIOR_TENSION_AND_COMPRESSION\"", json);
+        using var check = await PostAsync("/v1/models:check", json);
+        Assert.Equal(HttpStatusCode.OK, check.StatusCode);
+        var answer = JsonParser.Default.Parse<CheckModelResponse>(await check.Content.ReadAsStringAsync());
+        var finding = Assert.Single(answer.Findings);
+        Assert.Equal(("UNKNOWN_LOAD_SET", "load_case.combination.reference[0].load_set"), (finding.Code, finding.Field));
+
+        // The old names are unknown fields now (a deliberate v1 rename, docs/api.md "Change log").
+        using var old = await PostAsync("/v1/models:check", json.Replace("\"loadSets\"", "\"patterns\"", StringComparison.Ordinal));
+        Assert.Equal(HttpStatusCode.BadRequest, old.StatusCode);
+        Assert.Contains("loadCase.patterns", await old.Content.ReadAsStringAsync());
+
+        // Reactions are reaction_x/y/z: the supports of the two-bar truss carry the apex load (sum of y reactions = 2·10 kN up).
+        using var linear = await PostAsync("/v1/analyses:linear", LinearJson(2.0));
+        var state = JsonParser.Default.Parse<AnalyzeLinearResponse>(await linear.Content.ReadAsStringAsync()).State;
+        Assert.Equal(-2 * DemoStructures.ApexLoad().Reference.Sum(l => l.Fy), state.Nodes.Sum(n => n.ReactionY), 12);
+        using var raw = JsonDocument.Parse(await (await PostAsync("/v1/analyses:linear", LinearJson(2.0))).Content.ReadAsStringAsync());
+        Assert.Contains(raw.RootElement.GetProperty("state").GetProperty("nodes").EnumerateArray(), n => n.TryGetProperty("reactionY", out _));
+    }
+
+    [Fact]
     public async Task A_body_above_the_size_limit_gets_429_with_resource_exhausted_and_the_quota_subject()
     {
         var request = new CheckModelRequest { Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad() };

@@ -102,13 +102,13 @@ public class PlatformTests(ServerFixture server)
         m.Nodes.Add(new Node { Id = "base-e", X = 4 });
         m.Nodes.Add(new Node { Id = "top-e", X = 4, Z = 4 });
         m.Nodes.Add(new Node { Id = "top-w", Z = 4 });
-        void Bar(string id, string a, string b, BarBehaviour behaviour = BarBehaviour.Unspecified) =>
-            m.Bars.Add(new Bar { Id = id, StartNode = a, EndNode = b, ElasticModulus = DemoStructures.E, Area = DemoStructures.Area, Behaviour = behaviour });
+        void Bar(string id, string a, string b, BarBehavior behavior = BarBehavior.Unspecified) =>
+            m.Bars.Add(new Bar { Id = id, StartNode = a, EndNode = b, ElasticModulus = DemoStructures.E, Area = DemoStructures.Area, Behavior = behavior });
         Bar("post-w", "base-w", "top-w");
         Bar("post-e", "base-e", "top-e");
         Bar("beam", "top-w", "top-e");
-        Bar("diag-up", "base-w", "top-e", BarBehaviour.TensionOnly);
-        Bar("diag-down", "base-e", "top-w", BarBehaviour.TensionOnly);
+        Bar("diag-up", "base-w", "top-e", BarBehavior.TensionOnly);
+        Bar("diag-down", "base-e", "top-w", BarBehavior.TensionOnly);
         foreach (var n in new[] { "base-w", "base-e" })
             foreach (var d in new[] { Direction.X, Direction.Y, Direction.Z })
                 m.Supports.Add(new Support { Node = n, Direction = d });

@@ -31,7 +31,7 @@ public class StabilityToolkitTests(ServerFixture server)
     public async Task Sweep_streams_the_perfect_reference_then_a_falling_knock_down_curve()
     {
         var (model, loads) = SpringHeldPost();
-        var client = new ImperfectionStudyService.ImperfectionStudyServiceClient(server.Channel);
+        var client = new ImperfectionSweepService.ImperfectionSweepServiceClient(server.Channel);
         var request = new SweepImperfectionsRequest
         {
             Model = model, LoadCase = loads,
@@ -60,7 +60,7 @@ public class StabilityToolkitTests(ServerFixture server)
     public async Task Sweep_without_amplitudes_is_an_invalid_argument()
     {
         var (model, loads) = SpringHeldPost();
-        var client = new ImperfectionStudyService.ImperfectionStudyServiceClient(server.Channel);
+        var client = new ImperfectionSweepService.ImperfectionSweepServiceClient(server.Channel);
         using var call = client.SweepImperfections(new SweepImperfectionsRequest { Model = model, LoadCase = loads, Imperfection = new Imperfection { BucklingModes = { 1 } } });
         var ex = await Assert.ThrowsAsync<RpcException>(async () => { await foreach (var _ in call.ResponseStream.ReadAllAsync()) { } });
         Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
@@ -141,10 +141,46 @@ public class ImperfectionInputTests(ServerFixture server)
         Assert.Contains("imperfection.amplitude", Fields(ex));
     }
 
+    private static string Reason(RpcException ex, string field) =>
+        ex.GetRpcStatus()!.GetDetail<BadRequest>()!.FieldViolations.Single(v => v.Field == field).Reason;
+
+    [Fact]
+    public async Task Each_imperfection_fault_carries_its_own_reason()
+    {
+        var modeOut = await TraceFails(Truss(new Imperfection { BucklingModes = { 21 }, Amplitude = 0.01 }));
+        Assert.Equal("IMPERFECTION_MODE_OUT_OF_RANGE", Reason(modeOut, "imperfection.buckling_modes[0]"));
+        var noShape = await TraceFails(Truss(new Imperfection { Amplitude = 0.01 }));
+        Assert.Equal("IMPERFECTION_SHAPE_MISSING", Reason(noShape, "imperfection"));
+        var weights = await TraceFails(Truss(new Imperfection { BucklingModes = { 1 }, Weights = { 1, 2 }, Amplitude = 0.01 }));
+        Assert.Equal("IMPERFECTION_WEIGHTS_MISMATCH", Reason(weights, "imperfection.weights"));
+        var nonFinite = await TraceFails(Truss(new Imperfection { Shape = { new ShapeVector { Node = "apex", Y = double.NaN } }, Amplitude = 0.01 }));
+        Assert.Equal("NON_FINITE_NUMBER", Reason(nonFinite, "imperfection.shape[0]"));
+        var huge = await TraceFails(Truss(new Imperfection { BucklingModes = { 1 }, Amplitude = 1e16 }));
+        Assert.Equal("MAGNITUDE_BEYOND_LIMIT", Reason(huge, "imperfection.amplitude"));
+    }
+
+    [Fact]
+    public async Task Control_faults_carry_their_kind_as_the_reason()
+    {
+        var request = Truss(new Imperfection { BucklingModes = { 1 }, Amplitude = 0.01 });
+        request.Imperfection = null;
+        request.Controls = new SolverControls
+        {
+            Method = ContinuationMethod.DisplacementControl, InitialDisplacementIncrement = 0, MaxPoints = 5,
+            SwitchBranches = true, SingularPivotRatio = 0.5,
+        };
+        var ex = await TraceFails(request);
+        Assert.Equal(StatusCode.InvalidArgument, ex.StatusCode);
+        Assert.Equal("CONTROL_MISSING", Reason(ex, "controls.control_dof"));
+        Assert.Equal("CONTROL_OUT_OF_RANGE", Reason(ex, "controls.initial_displacement_increment"));
+        Assert.Equal("CONTROL_OUT_OF_RANGE", Reason(ex, "controls.singular_pivot_ratio"));
+        Assert.Equal("CONTROL_CONFLICT", Reason(ex, "controls.switch_branches"));
+    }
+
     [Fact]
     public async Task A_non_finite_sweep_amplitude_names_its_position()
     {
-        var client = new ImperfectionStudyService.ImperfectionStudyServiceClient(server.Channel);
+        var client = new ImperfectionSweepService.ImperfectionSweepServiceClient(server.Channel);
         using var call = client.SweepImperfections(new SweepImperfectionsRequest
         {
             Model = DemoStructures.TwoBarTruss(), LoadCase = DemoStructures.ApexLoad(),

@@ -142,7 +142,7 @@ public class TimeBoundTests(Xunit.Abstractions.ITestOutputHelper output)
         // Each trace may run for 600 s (the server's per-trace cap); the sweep as a whole gets 1.5 s.
         await using var server = await TestServer.StartAsync(["Limits:MaxSweepSeconds=1.5", "Limits:MaxConcurrentAnalyses=1"]);
         var (model, loads, crown) = DemoStructures.LatticeCap(6);
-        var client = new ImperfectionStudyService.ImperfectionStudyServiceClient(server.Channel);
+        var client = new ImperfectionSweepService.ImperfectionSweepServiceClient(server.Channel);
         var request = new SweepImperfectionsRequest
         {
             Model = model, LoadCase = loads,

@@ -1,5 +1,8 @@
 // Interop check from outside .NET: loads the contracts from protos/ at run time, traces the symmetric two-bar truss
-// through both limit points and checks what streams back. Usage: node trace-client.js HOST:PORT
+// through both limit points and checks what streams back. The load comes through a load set and a combination, and
+// the last point's reactions are checked, so the v1 field names (load_sets, load_set, behavior, reaction_y) are used
+// from outside .NET: protobuf.js drops unknown names silently, so a wrong name would lose the load or the reactions.
+// Usage: node trace-client.js HOST:PORT
 'use strict';
 const path = require('path');
 const grpc = require('@grpc/grpc-js');
@@ -21,12 +24,15 @@ const request = {
     units: { force: 'kN', length: 'm' },
     nodes: [{ id: 'left', x: -4, y: 0, z: 0 }, { id: 'apex', x: 0, y: 0.35, z: 0 }, { id: 'right', x: 4, y: 0, z: 0 }],
     bars: [
-      { id: 'bar-L', startNode: 'left', endNode: 'apex', elasticModulus: 2e8, area: 1.2e-3 },
+      { id: 'bar-L', startNode: 'left', endNode: 'apex', elasticModulus: 2e8, area: 1.2e-3, behavior: 'BAR_BEHAVIOR_TENSION_AND_COMPRESSION' },
       { id: 'bar-R', startNode: 'apex', endNode: 'right', elasticModulus: 2e8, area: 1.2e-3 },
     ],
     supports: [...pin('left'), ...pin('right'), { node: 'apex', direction: 'DIRECTION_X' }, { node: 'apex', direction: 'DIRECTION_Z' }],
   },
-  loadCase: { reference: [{ node: 'apex', fy: -10 }] },
+  loadCase: {
+    loadSets: [{ name: 'apex load', loads: [{ node: 'apex', fy: -10 }] }],
+    combination: { name: 'interop', reference: [{ loadSet: 'apex load', factor: 1 }] },
+  },
   controls: {
     method: 'CONTINUATION_METHOD_ARC_LENGTH', initialLoadIncrement: 0.5, maxPoints: 400,
     targetDisplacementDof: apexY, targetDisplacement: -0.8, monitored: [apexY],
@@ -53,6 +59,11 @@ call.on('end', () => {
   check('lower limit point near -6.118', criticals.length > 1 && Math.abs(criticals[1].loadFactor + LIMIT) < 1e-4);
   check('summary last', last && last.update === 'summary' && last.summary.reason === 'STOP_REASON_TARGET_DISPLACEMENT_REACHED',
     last && last.summary ? `${last.summary.reason}, ${last.summary.points} points` : 'no summary');
+  const end = points[points.length - 1];
+  const reactionY = end && end.state ? end.state.nodes.reduce((sum, n) => sum + n.reactionY, 0) : NaN;
+  // Equilibrium in y at the last point: the supports carry λ·10 kN (λ·F_ref with F_ref = −10 kN at the apex).
+  check('last point reactions balance the load', end && Math.abs(reactionY - 10 * end.loadFactor) < 1e-6 * Math.max(1, Math.abs(10 * end.loadFactor)),
+    end ? `Σ reaction_y = ${reactionY}, λ·10 = ${10 * end.loadFactor}` : 'no point');
   check('summary echoes units', last && last.summary && last.summary.units.force === 'kN' && last.summary.units.length === 'm');
   const passed = results.filter(Boolean).length;
   console.log(`${passed} passed, ${results.length - passed} failed`);

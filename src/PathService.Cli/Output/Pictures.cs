@@ -58,11 +58,11 @@ internal static class Pictures
     {
         var loads = request.LoadCase;
         if (loads is null) return 2;
-        bool selfWeight = loads.Patterns.Any(p => p.SelfWeight);
+        bool selfWeight = loads.LoadSets.Any(p => p.SelfWeight);
         double[]? gravity = selfWeight && loads.Gravity is { } g ? [g.X, g.Y, g.Z] : null;
         if (selfWeight && loads.Gravity is null) gravity = [0, 0, -9.81]; // the documented default gravity
         var resultant = new double[3];
-        foreach (var l in loads.Reference.Concat(loads.Constant).Concat(loads.Patterns.SelectMany(p => p.Loads)))
+        foreach (var l in loads.Reference.Concat(loads.Constant).Concat(loads.LoadSets.SelectMany(p => p.Loads)))
         {
             resultant[0] += l.Fx; resultant[1] += l.Fy; resultant[2] += l.Fz;
         }

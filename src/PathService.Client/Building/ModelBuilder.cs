@@ -27,7 +27,7 @@ public sealed class ModelBuilder
         return this;
     }
 
-    /// <summary>A pin-ended bar; <paramref name="configure"/> sets the optional fields (behaviour, density, yield stress, ...).</summary>
+    /// <summary>A pin-ended bar; <paramref name="configure"/> sets the optional fields (behavior, density, yield stress, ...).</summary>
     public ModelBuilder Bar(string id, string startNode, string endNode, double elasticModulus, double area, Action<Bar>? configure = null)
     {
         var bar = new Bar { Id = id, StartNode = startNode, EndNode = endNode, ElasticModulus = elasticModulus, Area = area };

@@ -66,7 +66,7 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
             ? _channel.CreateCallInvoker()
             : _channel.Intercept(new ApiKeyHeaderInterceptor(options.ApiKeyHeader, options.ApiKey));
         Paths = new StructuralPathService.StructuralPathServiceClient(invoker);
-        Studies = new ImperfectionStudyService.ImperfectionStudyServiceClient(invoker);
+        Sweeps = new ImperfectionSweepService.ImperfectionSweepServiceClient(invoker);
         Description = string.Join(", ", options.Addresses);
     }
 
@@ -103,7 +103,7 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
         };
         foreach (var m in StructuralPathService.Descriptor.Methods.Where(m => !m.IsServerStreaming && !m.IsClientStreaming))
             config.Names.Add(new MethodName { Service = StructuralPathService.Descriptor.FullName, Method = m.Name });
-        config.Names.Add(new MethodName { Service = ImperfectionStudyService.Descriptor.FullName }); // all its methods
+        config.Names.Add(new MethodName { Service = ImperfectionSweepService.Descriptor.FullName }); // all its methods
         return config;
     }
 
@@ -113,8 +113,8 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
     /// <summary>The generated client of the analysis service, for calls this class does not wrap.</summary>
     public StructuralPathService.StructuralPathServiceClient Paths { get; }
 
-    /// <summary>The generated client of the imperfection study service.</summary>
-    public ImperfectionStudyService.ImperfectionStudyServiceClient Studies { get; }
+    /// <summary>The generated client of the imperfection sweep service.</summary>
+    public ImperfectionSweepService.ImperfectionSweepServiceClient Sweeps { get; }
 
     /// <summary>Streams a trace as it converges; cancel the token to stop the analysis on the server.</summary>
     public async IAsyncEnumerable<TracePathResponse> TraceAsync(TracePathRequest request, [EnumeratorCancellation] CancellationToken ct = default)
@@ -186,7 +186,7 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
     /// <summary>Streams an imperfection sweep; retried on UNAVAILABLE (built-in policy) only while nothing has been delivered.</summary>
     public async IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, [EnumeratorCancellation] CancellationToken ct = default)
     {
-        using var call = Studies.SweepImperfections(request, cancellationToken: ct);
+        using var call = Sweeps.SweepImperfections(request, cancellationToken: ct);
         while (await call.ResponseStream.MoveNext(ct)) yield return call.ResponseStream.Current;
     }
 

@@ -14,7 +14,7 @@ public static class FieldPaths
         if (enginePath.StartsWith("controls", StringComparison.Ordinal) || enginePath.StartsWith("imperfection", StringComparison.Ordinal)
             || enginePath.StartsWith("amplitudes", StringComparison.Ordinal)) return enginePath;
         if (enginePath.StartsWith("loads", StringComparison.Ordinal)) return "load_case" + enginePath["loads".Length..];
-        if (enginePath.StartsWith("load_patterns", StringComparison.Ordinal)) return "load_case.patterns" + enginePath["load_patterns".Length..];
+        if (enginePath.StartsWith("load_sets", StringComparison.Ordinal)) return "load_case.load_sets" + enginePath["load_sets".Length..];
         if (enginePath.StartsWith("combination", StringComparison.Ordinal) || enginePath.StartsWith("gravity", StringComparison.Ordinal)) return "load_case." + enginePath;
         return "model." + enginePath;
     }

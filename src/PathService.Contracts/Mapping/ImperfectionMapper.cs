@@ -39,7 +39,7 @@ public static class ImperfectionMapper
     private static (IReadOnlyList<double[]> Shapes, IReadOnlyList<double> Weights) Shapes(ModelDefinition perfect, Proto.Imperfection imp, CancellationToken ct, bool analyse)
     {
         var findings = new List<ValidationFinding>();
-        void Bad(string field, string message) => findings.Add(new(FindingSeverity.Error, FindingCode.AbsurdMagnitude, field, null, message));
+        void Bad(FindingCode code, string field, string message) => findings.Add(new(FindingSeverity.Error, code, field, null, message));
         var shapes = new List<double[]>();
         int n = perfect.Nodes.Count;
         if (imp.Shape.Count > 0)
@@ -50,7 +50,7 @@ public static class ImperfectionMapper
             {
                 var v = imp.Shape[i];
                 if (!index.TryGetValue(v.Node, out int k)) { findings.Add(new(FindingSeverity.Error, FindingCode.UnknownNode, $"imperfection.shape[{i}].node", v.Node, $"imperfection shape refers to node '{v.Node}', which is not defined")); continue; }
-                if (!double.IsFinite(v.X) || !double.IsFinite(v.Y) || !double.IsFinite(v.Z)) { Bad($"imperfection.shape[{i}]", $"imperfection shape of node '{v.Node}' is not finite"); continue; }
+                if (!double.IsFinite(v.X) || !double.IsFinite(v.Y) || !double.IsFinite(v.Z)) { Bad(FindingCode.NonFiniteNumber, $"imperfection.shape[{i}]", $"imperfection shape of node '{v.Node}' is not finite"); continue; }
                 shape[3 * k] = v.X; shape[3 * k + 1] = v.Y; shape[3 * k + 2] = v.Z;
             }
             shapes.Add(shape);
@@ -59,7 +59,7 @@ public static class ImperfectionMapper
         {
             for (int i = 0; i < imp.BucklingModes.Count; i++)
                 if (imp.BucklingModes[i] < 1 || imp.BucklingModes[i] > MaxModeNumber)
-                    Bad($"imperfection.buckling_modes[{i}]", $"buckling mode number {imp.BucklingModes[i]} is outside 1..{MaxModeNumber}");
+                    Bad(FindingCode.ImperfectionModeOutOfRange, $"imperfection.buckling_modes[{i}]", $"buckling mode number {imp.BucklingModes[i]} is outside 1..{MaxModeNumber}");
             if (findings.Count == 0 && analyse)
             {
                 LinearBucklingResult buckling;
@@ -71,26 +71,28 @@ public static class ImperfectionMapper
                 }
                 foreach (int mode in imp.BucklingModes)
                 {
-                    if (mode > buckling.Modes.Count) { Bad("imperfection.buckling_modes", $"the model has only {buckling.Modes.Count} positive buckling modes; mode {mode} does not exist"); break; }
+                    if (mode > buckling.Modes.Count) { Bad(FindingCode.ImperfectionModeOutOfRange, "imperfection.buckling_modes", $"the model has only {buckling.Modes.Count} positive buckling modes; mode {mode} does not exist"); break; }
                     shapes.Add(buckling.Modes[mode - 1].Shape);
                 }
             }
         }
-        else Bad("imperfection", "give either buckling_modes or a shape");
+        else Bad(FindingCode.ImperfectionShapeMissing, "imperfection", "give either buckling_modes or a shape");
 
         var weights = imp.Weights.Count > 0 ? imp.Weights.ToList() : Enumerable.Repeat(1.0, Math.Max(1, shapes.Count)).ToList();
         if (imp.Weights.Count > 0 && imp.Weights.Count != Math.Max(1, imp.Shape.Count > 0 ? 1 : imp.BucklingModes.Count))
-            Bad("imperfection.weights", $"{imp.Weights.Count} weights for {(imp.Shape.Count > 0 ? 1 : imp.BucklingModes.Count)} shapes");
-        if (imp.Weights.Any(w => !double.IsFinite(w))) Bad("imperfection.weights", "imperfection weights must be finite");
+            Bad(FindingCode.ImperfectionWeightsMismatch, "imperfection.weights", $"{imp.Weights.Count} weights for {(imp.Shape.Count > 0 ? 1 : imp.BucklingModes.Count)} shapes");
+        if (imp.Weights.Any(w => !double.IsFinite(w))) Bad(FindingCode.NonFiniteNumber, "imperfection.weights", "imperfection weights must be finite");
         if (findings.Count > 0) throw new ModelValidationException(findings);
         return (shapes, weights);
     }
 
-    /// <summary>An amplitude in the model's length unit; checks that it is finite.</summary>
+    /// <summary>An amplitude in the model's length unit; checks that it is finite and within ±1e15.</summary>
     public static double ToLength(ModelDefinition perfect, Proto.Imperfection imp, double amplitude, string field)
     {
-        if (!double.IsFinite(amplitude) || Math.Abs(amplitude) > ModelValidator.MaxMagnitude)
+        if (!double.IsFinite(amplitude))
             throw new ModelValidationException([new(FindingSeverity.Error, FindingCode.NonFiniteNumber, field, null, $"imperfection amplitude {amplitude} is not a finite number")]);
+        if (Math.Abs(amplitude) > ModelValidator.MaxMagnitude)
+            throw new ModelValidationException([new(FindingSeverity.Error, FindingCode.MagnitudeBeyondLimit, field, null, $"imperfection amplitude {amplitude:G4} is beyond ±{ModelValidator.MaxMagnitude:G1}; check the units")]);
         if (imp.AmplitudeUnit != Proto.AmplitudeUnit.SpanFraction) return amplitude;
         double span = imp.DeclaredSpan > 0 && double.IsFinite(imp.DeclaredSpan) ? imp.DeclaredSpan : Imperfections.PlanSpan(perfect);
         return amplitude * span;

@@ -52,12 +52,12 @@ public static class ModelMapper
             Bars = model.Bars.Select(b => new BarDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, b.Area, b.InitialStress)
             {
                 Density = b.Density,
-                Behaviour = b.Behaviour switch
+                Behavior = b.Behavior switch
                 {
-                    BarBehaviour.Unspecified or BarBehaviour.TensionAndCompression => Engine.Elements.BarBehaviour.Elastic,
-                    BarBehaviour.TensionOnly => Engine.Elements.BarBehaviour.TensionOnly,
-                    BarBehaviour.CompressionOnly => Engine.Elements.BarBehaviour.CompressionOnly,
-                    _ => (Engine.Elements.BarBehaviour)(int)b.Behaviour, // the number sent (never 0..3): reported by the validator
+                    BarBehavior.Unspecified or BarBehavior.TensionAndCompression => Engine.Elements.BarBehavior.Elastic,
+                    BarBehavior.TensionOnly => Engine.Elements.BarBehavior.TensionOnly,
+                    BarBehavior.CompressionOnly => Engine.Elements.BarBehavior.CompressionOnly,
+                    _ => (Engine.Elements.BarBehavior)(int)b.Behavior, // the number sent (never 0..3): reported by the validator
                 },
                 YieldStress = b.YieldStress,
                 SecondMoment = b.SecondMoment,
@@ -69,9 +69,9 @@ public static class ModelMapper
             Loads = new LoadCaseDefinition(
                 loads.Constant.Select(ToLoad).ToArray(),
                 loads.Reference.Select(ToLoad).ToArray()),
-            LoadPatterns = loads.Patterns.Select(p => new Engine.Model.LoadPattern(p.Name, p.Loads.Select(ToLoad).ToArray(), p.SelfWeight)).ToArray(),
+            LoadSets = loads.LoadSets.Select(p => new Engine.Model.LoadSet(p.Name, p.Loads.Select(ToLoad).ToArray(), p.SelfWeight)).ToArray(),
             Combination = loads.Combination is { } c
-                ? new Engine.Model.LoadCombination(c.Name, c.Constant.Select(f => new Engine.Model.PatternFactor(f.Pattern, f.Factor)).ToArray(), c.Reference.Select(f => new Engine.Model.PatternFactor(f.Pattern, f.Factor)).ToArray())
+                ? new Engine.Model.LoadCombination(c.Name, c.Constant.Select(f => new Engine.Model.LoadSetFactor(f.LoadSet, f.Factor)).ToArray(), c.Reference.Select(f => new Engine.Model.LoadSetFactor(f.LoadSet, f.Factor)).ToArray())
                 : null,
             Gravity = loads.Gravity is { } g ? (g.X, g.Y, g.Z) : (0, 0, -9.81),
         };

@@ -109,7 +109,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             MemberEventKind.Slack => Proto.MemberEventKind.Slack,
             _ => Proto.MemberEventKind.Unspecified,
         },
-        Bar = e.BarId, Point = e.Point, LoadFactor = e.LoadFactor, AxialForce = e.AxialForce, Utilisation = e.Utilisation,
+        Bar = e.BarId, Point = e.Point, LoadFactor = e.LoadFactor, AxialForce = e.AxialForce, Utilization = e.Utilization,
         OnsetLoadFactor = e.OnsetLoadFactor, Branch = e.Branch,
     };
 
@@ -167,7 +167,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             {
                 Node = model.NodeIds[n],
                 Ux = u[3 * n], Uy = u[3 * n + 1], Uz = u[3 * n + 2],
-                Rx = reactions[3 * n], Ry = reactions[3 * n + 1], Rz = reactions[3 * n + 2],
+                ReactionX = reactions[3 * n], ReactionY = reactions[3 * n + 1], ReactionZ = reactions[3 * n + 2],
             });
         for (int b = 0; b < model.BarCount; b++)
             s.Bars.Add(new Proto.BarState { Bar = model.BarIds[b], AxialForce = barForces[b], Strain = barStrains?[b] ?? barForces[b] / (model.BarModulus[b] * model.BarArea[b]) });

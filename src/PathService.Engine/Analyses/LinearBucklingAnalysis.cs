@@ -23,11 +23,11 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 public static class LinearBucklingAnalysis
 {
     public static LinearBucklingResult Run(StructuralModel model, int modeCount = 3, int maxIterations = 200, double tolerance = 1e-10,
-        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken ct = default)
+        double singularPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken ct = default)
     {
         if (modeCount < 1) throw new ArgumentOutOfRangeException(nameof(modeCount), "at least one mode must be requested");
         ct.ThrowIfCancellationRequested();
-        var sys = new EquilibriumSystem(model, tinyPivotRatio, ordering);
+        var sys = new EquilibriumSystem(model, singularPivotRatio, ordering);
         ct.ThrowIfCancellationRequested();
         var asm = sys.Assembler;
         int n = sys.FreeCount;
@@ -52,7 +52,7 @@ public static class LinearBucklingAnalysis
         asm.Tangent(zero, kS, TangentParts.GeometricOnly, sRef);
         kA.CopyTo(sys.Values, 0);
         ct.ThrowIfCancellationRequested();
-        var status = sys.Factor.Factorize(sys.Values, tinyPivotRatio);
+        var status = sys.Factor.Factorize(sys.Values, singularPivotRatio);
         if (status == LdlStatus.ZeroPivot || sys.Factor.NegativePivotCount > 0)
             throw new AnalysisInputException("UNSTABLE_START", "model", "the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
 

@@ -47,14 +47,14 @@ public static class LinearStaticAnalysis
     /// <exception cref="ActiveSetCyclingException">No consistent set of slack bars was found.</exception>
     /// <exception cref="OperationCanceledException">The token was cancelled during the active-set iteration.</exception>
     public static LinearStaticResult Run(StructuralModel model, double loadFactor = 1.0, bool includeConstant = true,
-        double tinyPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken cancellationToken = default)
+        double singularPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken cancellationToken = default)
     {
         cancellationToken.ThrowIfCancellationRequested();
-        var sys = new Continuation.EquilibriumSystem(model, tinyPivotRatio, ordering);
+        var sys = new Continuation.EquilibriumSystem(model, singularPivotRatio, ordering);
         var u0 = new double[3 * model.NodeCount];
         // The token is checked between the expensive parts (ordering, factorisation); it throws OperationCanceledException.
         cancellationToken.ThrowIfCancellationRequested();
-        var oneSided = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehaviour[b] != Elements.BarBehaviour.Elastic).ToArray();
+        var oneSided = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehavior[b] != Elements.BarBehavior.Elastic).ToArray();
         if (oneSided.Length == 0)
         {
             var status = sys.Refactor(u0);
@@ -62,11 +62,11 @@ public static class LinearStaticAnalysis
             MechanismDetector.ThrowIfSingular(sys, status);
             return Solve(model, sys, loadFactor, includeConstant, withPrescribed: true);
         }
-        return RunActiveSet(model, sys, oneSided, loadFactor, includeConstant, tinyPivotRatio, cancellationToken);
+        return RunActiveSet(model, sys, oneSided, loadFactor, includeConstant, singularPivotRatio, cancellationToken);
     }
 
     private static LinearStaticResult RunActiveSet(StructuralModel model, Continuation.EquilibriumSystem sys, int[] oneSided,
-        double loadFactor, bool includeConstant, double tinyPivotRatio, CancellationToken ct)
+        double loadFactor, bool includeConstant, double singularPivotRatio, CancellationToken ct)
     {
         var asm = sys.Assembler;
         var u0 = new double[3 * model.NodeCount];
@@ -113,7 +113,7 @@ public static class LinearStaticAnalysis
                 if (on) asm.AddBarMatrix(oneSided[q], activeBlock.AsSpan(6 * q, 6), 1.0, sys.Values);
                 else asm.AddBarMatrix(oneSided[q], restBlock.AsSpan(6 * q, 6), -1.0, sys.Values);
             }
-            var status = sys.Factor.Factorize(sys.Values, tinyPivotRatio);
+            var status = sys.Factor.Factorize(sys.Values, singularPivotRatio);
             try { MechanismDetector.ThrowIfSingular(sys, status); }
             catch (MechanismException e) when (oneSided.Any(b => !active[b]))
             {
@@ -136,13 +136,13 @@ public static class LinearStaticAnalysis
             for (int q = 0; q < k; q++)
             {
                 int b = oneSided[q];
-                var behaviour = model.BarBehaviour[b];
+                var behavior = model.BarBehavior[b];
                 // The trace's rule, with a round-off band: an active bar goes slack only beyond the band on the open side, a
                 // slack bar returns once its gap reaches the band on the closed side.
-                double toClosed = behaviour == Elements.BarBehaviour.TensionOnly ? band : -band;
+                double toClosed = behavior == Elements.BarBehavior.TensionOnly ? band : -band;
                 bool nextActive = active[b]
-                    ? !Elements.BarMaterial.IsSlack(behaviour, stress[q] + toClosed)
-                    : !Elements.BarMaterial.IsSlack(behaviour, stress[q] - toClosed);
+                    ? !Elements.BarMaterial.IsSlack(behavior, stress[q] + toClosed)
+                    : !Elements.BarMaterial.IsSlack(behavior, stress[q] - toClosed);
                 if (nextActive != active[b]) switched.Add(q);
             }
             if (switched.Count == 0)

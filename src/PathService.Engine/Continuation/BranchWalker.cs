@@ -342,7 +342,7 @@ internal sealed class BranchWalker(TraceSession s)
     /// follows from what defines it: a limit point where λ turns back along the path (dλ/dt changes sign across the
     /// bracket), a bifurcation where it passes on (and always for a change of the count by more than one at one λ).
     /// Only when the turn cannot be judged (a chord without displacement) does the load alignment decide, against
-    /// <see cref="SolverControls.BifurcationThreshold"/>.
+    /// <see cref="SolverControls.FallbackAlignmentThreshold"/>.
     /// </summary>
     private List<CriticalPoint> LocateCritical(double[] ua, double la, int na, double[] ub, double lb, int nb, int before, int after)
     {
@@ -362,7 +362,7 @@ internal sealed class BranchWalker(TraceSession s)
             int multiplicity = Math.Max(1, Math.Abs(r.NegativeAfter - r.NegativeBefore));
             var kind = multiplicity > 1 ? CriticalPointKind.Bifurcation
                 : r.LoadTurns is { } turns ? (turns ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation)
-                : alignment >= c.BifurcationThreshold ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation;
+                : alignment >= c.FallbackAlignmentThreshold ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation;
             bool keepState = c.FullStateAtCriticalPoints || c.SwitchBranches;
             list.Add(new CriticalPoint(0, kind, r.LoadFactor, la, lb, before, after, r.NegativeBefore, r.NegativeAfter, r.Eigenvalue, alignment,
                 s.Monitored.Select(d => r.Displacement[d]).ToArray(), FullMode(primary), r.Located, r.Tolerance,

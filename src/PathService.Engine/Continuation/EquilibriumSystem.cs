@@ -25,16 +25,16 @@ internal sealed class EquilibriumSystem
     public double ReferenceNormSquared { get; }
     public int Factorizations { get; private set; }
     public TimeSpan FactorizationTime { get; private set; }
-    public double TinyPivotRatio { get; }
+    public double SingularPivotRatio { get; }
 
     private readonly double[] _force;
     private readonly int[] _fullOf;
 
-    public EquilibriumSystem(StructuralModel model, double tinyPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic,
+    public EquilibriumSystem(StructuralModel model, double singularPivotRatio, OrderingMethod ordering = OrderingMethod.Automatic,
         double backwardErrorBound = RefinedFactorization.DefaultBound)
     {
         Model = model;
-        TinyPivotRatio = tinyPivotRatio;
+        SingularPivotRatio = singularPivotRatio;
         Assembler = new StructureAssembler(model);
         Refined = new RefinedFactorization(new SupernodalLdlFactorization(OrderingChoice.Analyze(model, Assembler.Pattern, ordering)), backwardErrorBound);
         Values = new double[Assembler.Pattern.NonZeroCount];
@@ -53,7 +53,7 @@ internal sealed class EquilibriumSystem
     {
         Assembler.Tangent(u, Values);
         long t0 = Stopwatch.GetTimestamp();
-        var status = Factor.Factorize(Values, TinyPivotRatio);
+        var status = Factor.Factorize(Values, SingularPivotRatio);
         FactorizationTime += Stopwatch.GetElapsedTime(t0);
         Factorizations++;
         return status;

@@ -15,11 +15,11 @@ public enum MemberEventKind
 
 /// <summary>
 /// The first time a bar yields, reaches its Euler load or goes slack along the path, reported after the converged
-/// point where it was first seen. <paramref name="Utilisation"/> is |S|/σy for yield and −N/N_E for buckling.
+/// point where it was first seen. <paramref name="Utilization"/> is |S|/σy for yield and −N/N_E for buckling.
 /// <paramref name="OnsetLoadFactor"/> estimates λ at the onset by linear interpolation of the governing quantity
 /// between the previous point and this one (exact to second order in the step).
 /// </summary>
-public sealed record MemberEvent(MemberEventKind Kind, string BarId, int Point, double LoadFactor, double AxialForce, double Utilisation,
+public sealed record MemberEvent(MemberEventKind Kind, string BarId, int Point, double LoadFactor, double AxialForce, double Utilization,
     double OnsetLoadFactor) : PathEvent
 {
     public int Branch { get; init; }
@@ -83,8 +83,8 @@ internal sealed class MemberMonitor(StructuralModel m, EquilibriumSystem sys)
                 double euler = Math.PI * Math.PI * m.BarModulus[b] * m.BarSecondMoment[b] / (kl * kl);
                 Report(MemberEventKind.Buckle, b, n, -n / euler - 1, -n / euler, -n >= euler);
             }
-            if (m.BarBehaviour[b] != BarBehaviour.Elastic)
-                Report(MemberEventKind.Slack, b, n, m.BarBehaviour[b] == BarBehaviour.TensionOnly ? -trial : trial, 0, s.Regime == BarRegime.Slack);
+            if (m.BarBehavior[b] != BarBehavior.Elastic)
+                Report(MemberEventKind.Slack, b, n, m.BarBehavior[b] == BarBehavior.TensionOnly ? -trial : trial, 0, s.Regime == BarRegime.Slack);
         }
         _previousLambda = lambda;
         return events;
@@ -102,7 +102,7 @@ internal sealed class MemberMonitor(StructuralModel m, EquilibriumSystem sys)
             return num / sys.ReferenceNormSquared;
         }
 
-        void Report(MemberEventKind kind, int bar, double force, double governing, double utilisation, bool happened)
+        void Report(MemberEventKind kind, int bar, double force, double governing, double utilization, bool happened)
         {
             int k = (int)kind;
             double before = _previous[k][bar];
@@ -113,7 +113,7 @@ internal sealed class MemberMonitor(StructuralModel m, EquilibriumSystem sys)
             double onset = lambda;
             if (double.IsFinite(_previousLambda) && before < 0 && governing >= 0 && governing > before)
                 onset = OnsetLoadFactor(-before / (governing - before), uNow);
-            events.Add(new MemberEvent(kind, m.BarIds[bar], point, lambda, force, utilisation, onset) { Branch = branch });
+            events.Add(new MemberEvent(kind, m.BarIds[bar], point, lambda, force, utilization, onset) { Branch = branch });
         }
     }
 }

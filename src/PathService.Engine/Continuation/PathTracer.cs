@@ -41,7 +41,7 @@ public sealed class PathTracer
     private IEnumerable<PathEvent> Run(CancellationToken ct)
     {
         long started = System.Diagnostics.Stopwatch.GetTimestamp();
-        var sys = new EquilibriumSystem(_model, _c.TinyPivotRatio, _ordering, BackwardErrorBound);
+        var sys = new EquilibriumSystem(_model, _c.SingularPivotRatio, _ordering, BackwardErrorBound);
         var s = new TraceSession(_model, _c, sys, ct, started);
         int n = sys.FreeCount;
         var u = (double[])_model.PrescribedDisplacement.Clone();
@@ -71,7 +71,7 @@ public sealed class PathTracer
         primary.Increment = _c.Method switch
         {
             ContinuationMethod.LoadControl => _c.InitialLoadIncrement,
-            ContinuationMethod.DisplacementControl => _c.DisplacementIncrement,
+            ContinuationMethod.DisplacementControl => _c.InitialDisplacementIncrement,
             _ => _c.InitialLoadIncrement * Math.Sqrt(EquilibriumSystem.Dot(primary.Predictor, primary.Predictor) + s.PsiSquared * sys.ReferenceNormSquared),
         };
         var walker = new BranchWalker(s);

@@ -26,7 +26,7 @@ public sealed record SolverControls
     public double InitialLoadIncrement { get; init; } = 0.05;
     /// <summary>Displacement control: the controlled component and its first increment (length unit).</summary>
     public DofReference? ControlDof { get; init; }
-    public double DisplacementIncrement { get; init; }
+    public double InitialDisplacementIncrement { get; init; }
 
     /// <summary>Increments are kept within [min, max] × the first increment.</summary>
     public double MinIncrementRatio { get; init; } = 1e-4;
@@ -64,9 +64,9 @@ public sealed record SolverControls
     /// judged (a step without displacement change), |φ·F_ref|/(‖φ‖‖F_ref‖) below this marks a bifurcation, above it a
     /// limit point (common practice, no source).
     /// </summary>
-    public double BifurcationThreshold { get; init; } = 1e-3;
-    /// <summary>Relative pivot size below which the tangent counts as singular (mechanism at the start).</summary>
-    public double TinyPivotRatio { get; init; } = 1e-11;
+    public double FallbackAlignmentThreshold { get; init; } = 1e-3;
+    /// <summary>Relative pivot size below which the tangent counts as singular (mechanism at the start); range (0, 1e-3].</summary>
+    public double SingularPivotRatio { get; init; } = 1e-11;
 
     /// <summary>
     /// Branch switching: at each bifurcation on the primary path, follow the secondary branch for
@@ -86,7 +86,12 @@ public sealed record SolverControls
     public IReadOnlyList<ValidationFinding> Validate(StructuralModel model)
     {
         var f = new List<ValidationFinding>();
-        void Err(string field, string msg) => f.Add(new(FindingSeverity.Error, FindingCode.AbsurdMagnitude, $"controls.{field}", null, msg));
+        // One code per kind of fault, so a client can switch on it: a value outside its range, a needed value missing,
+        // values that contradict each other or the model, a number that names no option of the contract.
+        void Add(FindingCode code, string field, string msg) => f.Add(new(FindingSeverity.Error, code, $"controls.{field}", null, msg));
+        void Err(string field, string msg) => Add(FindingCode.ControlOutOfRange, field, msg);
+        void Missing(string field, string msg) => Add(FindingCode.ControlMissing, field, msg);
+        void Conflict(string field, string msg) => Add(FindingCode.ControlConflict, field, msg);
         void Positive(double v, string field) { if (!double.IsFinite(v) || v <= 0) Err(field, $"{field} is {v}; it must be a positive finite number"); }
         void Dof(DofReference? d, string field)
         {
@@ -94,15 +99,15 @@ public sealed record SolverControls
             if (!model.TryGetNode(d.Node, out int n)) { f.Add(new(FindingSeverity.Error, FindingCode.UnknownNode, $"controls.{field}.node", d.Node, $"{field} refers to node '{d.Node}', which is not defined")); return; }
             if (d.Direction is not (Axis.X or Axis.Y or Axis.Z)) { f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}.direction", d.Node, $"{field} direction is not one of x, y, z")); return; }
             if (model.Dofs.EquationOf[DofMap.Full(n, d.Direction)] < 0 && field == "control_dof")
-                f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}", d.Node, $"control DOF {d} is restrained by a support; choose a free direction"));
+                f.Add(new(FindingSeverity.Error, FindingCode.ControlConflict, $"controls.{field}", d.Node, $"control DOF {d} is restrained by a support; choose a free direction"));
         }
-        if (Method is not (ContinuationMethod.LoadControl or ContinuationMethod.DisplacementControl or ContinuationMethod.ArcLength)) Err("method", $"unknown continuation method {(int)Method}");
-        if (Constraint is not (ArcLengthConstraint.Cylindrical or ArcLengthConstraint.Spherical)) Err("constraint", $"unknown arc-length constraint {(int)Constraint}");
+        if (Method is not (ContinuationMethod.LoadControl or ContinuationMethod.DisplacementControl or ContinuationMethod.ArcLength)) Add(FindingCode.UnknownOption, "method", $"unknown continuation method {(int)Method}");
+        if (Constraint is not (ArcLengthConstraint.Cylindrical or ArcLengthConstraint.Spherical)) Add(FindingCode.UnknownOption, "constraint", $"unknown arc-length constraint {(int)Constraint}");
         if (Method != ContinuationMethod.DisplacementControl) Positive(InitialLoadIncrement, "initial_load_increment");
         if (Method == ContinuationMethod.DisplacementControl)
         {
-            if (ControlDof is null) Err("control_dof", "displacement control needs a control DOF (node and direction)");
-            if (!double.IsFinite(DisplacementIncrement) || DisplacementIncrement == 0) Err("displacement_increment", $"displacement_increment is {DisplacementIncrement}; it must be non-zero and finite");
+            if (ControlDof is null) Missing("control_dof", "displacement control needs a control DOF (node and direction)");
+            if (!double.IsFinite(InitialDisplacementIncrement) || InitialDisplacementIncrement == 0) Err("initial_displacement_increment", $"initial_displacement_increment is {InitialDisplacementIncrement}; it must be non-zero and finite");
         }
         Dof(ControlDof, "control_dof");
         Dof(TargetDisplacementDof, "target_displacement_dof");
@@ -117,10 +122,11 @@ public sealed record SolverControls
         if (MaxPoints < 1) Err("max_points", $"max_points is {MaxPoints}; it must be at least 1");
         if (TargetLoadFactor is { } t && !double.IsFinite(t)) Err("target_load_factor", "target_load_factor must be finite");
         if (TargetDisplacement is { } td && (!double.IsFinite(td) || td == 0)) Err("target_displacement", "target_displacement must be finite and non-zero");
-        if (TargetDisplacement is not null && TargetDisplacementDof is null && ControlDof is null) Err("target_displacement_dof", "a target displacement needs the DOF it applies to");
+        if (TargetDisplacement is not null && TargetDisplacementDof is null && ControlDof is null) Missing("target_displacement_dof", "a target displacement needs the DOF it applies to");
         if (!double.IsFinite(CriticalPointTolerance) || CriticalPointTolerance <= 0 || CriticalPointTolerance >= 0.1) Err("critical_point_tolerance", "critical_point_tolerance must lie in (0, 0.1)");
-        if (!double.IsFinite(BifurcationThreshold) || BifurcationThreshold <= 0 || BifurcationThreshold >= 1) Err("bifurcation_threshold", "bifurcation_threshold must lie in (0, 1)");
-        if (SwitchBranches && Method != ContinuationMethod.ArcLength) Err("switch_branches", "branch switching needs the arc-length method");
+        if (!double.IsFinite(FallbackAlignmentThreshold) || FallbackAlignmentThreshold <= 0 || FallbackAlignmentThreshold >= 1) Err("fallback_alignment_threshold", "fallback_alignment_threshold must lie in (0, 1)");
+        if (!double.IsFinite(SingularPivotRatio) || SingularPivotRatio <= 0 || SingularPivotRatio > 1e-3) Err("singular_pivot_ratio", $"singular_pivot_ratio is {SingularPivotRatio}; it must lie in (0, 1e-3]");
+        if (SwitchBranches && Method != ContinuationMethod.ArcLength) Conflict("switch_branches", "branch switching needs the arc-length method");
         if (SecondaryBranchPoints < 1) Err("secondary_branch_points", $"secondary_branch_points is {SecondaryBranchPoints}; it must be at least 1");
         if (!double.IsFinite(BranchPerturbation) || BranchPerturbation <= 0 || BranchPerturbation > 100) Err("branch_perturbation", "branch_perturbation must lie in (0, 100]");
         if (FullStateEvery < 0) Err("full_state_every", "full_state_every must be zero or positive");

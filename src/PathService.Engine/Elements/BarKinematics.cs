@@ -45,7 +45,7 @@ public static class BarKinematics
     {
         var s = Evaluate(m.Coordinates, displacement, m.BarStart[bar], m.BarEnd[bar], m.BarLength[bar], m.BarModulus[bar], m.BarInitialStress[bar]);
         if (!m.HasMemberLaws) return s;
-        var (stress, et, ep, regime) = BarMaterial.Respond(m.BarBehaviour[bar], m.BarModulus[bar], m.BarInitialStress[bar], m.BarYieldStress[bar], s.Strain, committedPlasticStrain);
+        var (stress, et, ep, regime) = BarMaterial.Respond(m.BarBehavior[bar], m.BarModulus[bar], m.BarInitialStress[bar], m.BarYieldStress[bar], s.Strain, committedPlasticStrain);
         return s with { Stress = stress, TangentModulus = et, PlasticStrain = ep, Regime = regime };
     }
 

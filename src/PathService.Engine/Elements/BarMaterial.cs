@@ -1,7 +1,7 @@
 namespace PathService.Engine.Elements;
 
 /// <summary>How a bar carries axial force.</summary>
-public enum BarBehaviour
+public enum BarBehavior
 {
     /// <summary>Tension and compression alike.</summary>
     Elastic,
@@ -22,7 +22,7 @@ public enum BarRegime { Elastic, Yielding, Slack }
 /// Green-Lagrange strain ε): linear elastic with optional initial stress S0; elastic-perfectly-plastic with the same
 /// yield stress σy in tension and compression, by the return map of J. C. Simo and T. J. R. Hughes, "Computational
 /// Inelasticity", Springer 1998, §1.2 (from memory) (its consistent tangent modulus is 0 while yielding); and tension-only or
-/// compression-only behaviour applied on top. A one-sided bar is active on the closed side: tension-only while S ≥ 0,
+/// compression-only behavior applied on top. A one-sided bar is active on the closed side: tension-only while S ≥ 0,
 /// compression-only while S ≤ 0 (at S = 0 the one-sided derivative toward the active side is the tangent, so a brace
 /// without prestress stiffens the structure at rest and goes slack only once it has strictly shortened; docs/theory.md
 /// §"One-sided members"). Stating plasticity in (S, ε) is adequate for the moderate strains of
@@ -32,7 +32,7 @@ public static class BarMaterial
 {
     /// <returns>Stress S, tangent modulus dS/dε, trial plastic strain and regime.</returns>
     public static (double Stress, double TangentModulus, double PlasticStrain, BarRegime Regime) Respond(
-        BarBehaviour behaviour, double modulus, double initialStress, double yieldStress, double strain, double committedPlasticStrain)
+        BarBehavior behavior, double modulus, double initialStress, double yieldStress, double strain, double committedPlasticStrain)
     {
         double s = modulus * (strain - committedPlasticStrain) + initialStress;
         double et = modulus, ep = committedPlasticStrain;
@@ -46,7 +46,7 @@ public static class BarMaterial
             et = 0;
             regime = BarRegime.Yielding;
         }
-        if (IsSlack(behaviour, s))
+        if (IsSlack(behavior, s))
             return (0, 0, committedPlasticStrain, BarRegime.Slack);
         return (s, et, ep, regime);
     }
@@ -55,6 +55,6 @@ public static class BarMaterial
     /// The one-sided rule shared by the trace and the linear analysis: slack only on the open side, strictly (a
     /// tension-only bar at S &lt; 0, a compression-only bar at S &gt; 0); at S = 0 the bar is active.
     /// </summary>
-    public static bool IsSlack(BarBehaviour behaviour, double stress) =>
-        (behaviour == BarBehaviour.TensionOnly && stress < 0) || (behaviour == BarBehaviour.CompressionOnly && stress > 0);
+    public static bool IsSlack(BarBehavior behavior, double stress) =>
+        (behavior == BarBehavior.TensionOnly && stress < 0) || (behavior == BarBehavior.CompressionOnly && stress > 0);
 }

@@ -1,7 +1,7 @@
 namespace PathService.Engine.Model;
 
 /// <summary>
-/// Resolves load patterns, self-weight and the factored combination into the two nodal load vectors the engine uses:
+/// Resolves load sets, self-weight and the factored combination into the two nodal load vectors the engine uses:
 /// F_const and F_ref (full vectors, 3 per node). Self-weight of a bar, ρ·A0·L0·g, goes half to each end node.
 /// </summary>
 internal static class LoadCombiner
@@ -15,14 +15,14 @@ internal static class LoadCombiner
         Add(reference, def.Loads.Reference, 1.0, nodeIndex);
         if (def.Combination is { } combo)
         {
-            var patterns = def.LoadPatterns.ToDictionary(p => p.Name, StringComparer.Ordinal);
-            foreach (var pf in combo.Constant) AddPattern(constant, def, patterns[pf.Pattern], pf.Factor, nodeIndex, barLength);
-            foreach (var pf in combo.Reference) AddPattern(reference, def, patterns[pf.Pattern], pf.Factor, nodeIndex, barLength);
+            var loadSets = def.LoadSets.ToDictionary(p => p.Name, StringComparer.Ordinal);
+            foreach (var pf in combo.Constant) AddLoadSet(constant, def, loadSets[pf.LoadSet], pf.Factor, nodeIndex, barLength);
+            foreach (var pf in combo.Reference) AddLoadSet(reference, def, loadSets[pf.LoadSet], pf.Factor, nodeIndex, barLength);
         }
         return (constant, reference);
     }
 
-    private static void AddPattern(double[] f, ModelDefinition def, LoadPattern p, double factor, Func<string, int> nodeIndex, double[] barLength)
+    private static void AddLoadSet(double[] f, ModelDefinition def, LoadSet p, double factor, Func<string, int> nodeIndex, double[] barLength)
     {
         Add(f, p.Loads, factor, nodeIndex);
         if (!p.SelfWeight) return;

@@ -15,8 +15,8 @@ public sealed record BarDefinition(string Id, string StartNode, string EndNode, 
     /// <summary>Mass density (mass per unit volume in units consistent with force and length: t/m³ with kN and m); 0 = weightless.</summary>
     public double Density { get; init; }
     /// <summary>Tension-only (cable), compression-only, or both (default).</summary>
-    public Elements.BarBehaviour Behaviour { get; init; }
-    /// <summary>Yield stress for elastic-perfectly-plastic behaviour, same in tension and compression; 0 = elastic throughout.</summary>
+    public Elements.BarBehavior Behavior { get; init; }
+    /// <summary>Yield stress for elastic-perfectly-plastic behavior, same in tension and compression; 0 = elastic throughout.</summary>
     public double YieldStress { get; init; }
     /// <summary>Second moment of area of the section for the Euler check π²EI/(KL)²; 0 = no buckling check.</summary>
     public double SecondMoment { get; init; }
@@ -51,18 +51,18 @@ public sealed record LoadCaseDefinition(IReadOnlyList<NodalLoad> Constant, IRead
     public static LoadCaseDefinition ReferenceOnly(params NodalLoad[] reference) => new([], reference);
 }
 
-/// <summary>A named set of nodal loads (a load pattern). With <see cref="SelfWeight"/> it also carries the bars' weight.</summary>
-public sealed record LoadPattern(string Name, IReadOnlyList<NodalLoad> Loads, bool SelfWeight = false);
+/// <summary>A load set: a named set of nodal loads. With <see cref="SelfWeight"/> it also carries the bars' weight.</summary>
+public sealed record LoadSet(string Name, IReadOnlyList<NodalLoad> Loads, bool SelfWeight = false);
 
-/// <summary>A load pattern taken with a factor into a combination.</summary>
-public sealed record PatternFactor(string Pattern, double Factor);
+/// <summary>A load set taken with a factor into a combination.</summary>
+public sealed record LoadSetFactor(string LoadSet, double Factor);
 
 /// <summary>
-/// A factored combination of load patterns: the constant part is applied in full, the reference part is scaled by λ.
+/// A factored combination of load sets: the constant part is applied in full, the reference part is scaled by λ.
 /// Example (EN 1990, eq. 6.10): constant 1.35·permanent, reference 1.5·snow; or (ASCE 7, 2.3.1) 1.2·dead constant and
 /// 1.6·live as reference. The combination is added to any loads given directly in the load case.
 /// </summary>
-public sealed record LoadCombination(string Name, IReadOnlyList<PatternFactor> Constant, IReadOnlyList<PatternFactor> Reference);
+public sealed record LoadCombination(string Name, IReadOnlyList<LoadSetFactor> Constant, IReadOnlyList<LoadSetFactor> Reference);
 
 /// <summary>Labels of the consistent unit system the numbers are given in; echoed in every report.</summary>
 public sealed record UnitLabels(string Force = "kN", string Length = "m");
@@ -78,7 +78,7 @@ public sealed record ModelDefinition
     public IReadOnlyList<LinkSpringDefinition> LinkSprings { get; init; } = [];
     public IReadOnlyList<SupportDefinition> Supports { get; init; } = [];
     public LoadCaseDefinition Loads { get; init; } = new([], []);
-    public IReadOnlyList<LoadPattern> LoadPatterns { get; init; } = [];
+    public IReadOnlyList<LoadSet> LoadSets { get; init; } = [];
     public LoadCombination? Combination { get; init; }
     /// <summary>Gravitational acceleration vector for self-weight (length/s²); default 9.81 downward along z.</summary>
     public (double X, double Y, double Z) Gravity { get; init; } = (0, 0, -9.81);

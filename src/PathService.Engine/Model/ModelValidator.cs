@@ -132,14 +132,14 @@ public static class ModelValidator
                 findings.Add(Error(FindingCode.NonPositiveArea, $"{path}.area", id,
                     $"bar '{id}' has cross-section area {bar.Area}; it must be positive"));
             CheckNumber(bar.InitialStress, $"{path}.initial_stress", id, "initial stress", findings);
-            if (bar.Behaviour is not (Elements.BarBehaviour.Elastic or Elements.BarBehaviour.TensionOnly or Elements.BarBehaviour.CompressionOnly))
-                findings.Add(Error(FindingCode.InvalidDirection, $"{path}.behaviour", id, $"bar '{id}' has an unknown behaviour {(int)bar.Behaviour}"));
+            if (bar.Behavior is not (Elements.BarBehavior.Elastic or Elements.BarBehavior.TensionOnly or Elements.BarBehavior.CompressionOnly))
+                findings.Add(Error(FindingCode.UnknownOption, $"{path}.behavior", id, $"bar '{id}' has an unknown behavior {(int)bar.Behavior}"));
             if (CheckNumber(bar.YieldStress, $"{path}.yield_stress", id, "yield stress", findings) && bar.YieldStress < 0)
-                findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.yield_stress", id, $"bar '{id}' has yield stress {bar.YieldStress}; give a positive value, or 0 for no yielding"));
+                findings.Add(Error(FindingCode.MemberPropertyOutOfRange, $"{path}.yield_stress", id, $"bar '{id}' has yield stress {bar.YieldStress}; give a positive value, or 0 for no yielding"));
             if (CheckNumber(bar.SecondMoment, $"{path}.second_moment", id, "second moment of area", findings) && bar.SecondMoment < 0)
-                findings.Add(Error(FindingCode.NonPositiveArea, $"{path}.second_moment", id, $"bar '{id}' has second moment of area {bar.SecondMoment}; give a positive value, or 0 for no buckling check"));
+                findings.Add(Error(FindingCode.MemberPropertyOutOfRange, $"{path}.second_moment", id, $"bar '{id}' has second moment of area {bar.SecondMoment}; give a positive value, or 0 for no buckling check"));
             if (CheckNumber(bar.EffectiveLengthFactor, $"{path}.effective_length_factor", id, "effective-length factor", findings) && bar.EffectiveLengthFactor <= 0)
-                findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.effective_length_factor", id, $"bar '{id}' has effective-length factor {bar.EffectiveLengthFactor}; it must be positive"));
+                findings.Add(Error(FindingCode.MemberPropertyOutOfRange, $"{path}.effective_length_factor", id, $"bar '{id}' has effective-length factor {bar.EffectiveLengthFactor}; it must be positive"));
             if (CheckNumber(bar.Density, $"{path}.density", id, "density", findings) && bar.Density < 0)
                 findings.Add(Error(FindingCode.NegativeDensity, $"{path}.density", id, $"bar '{id}' has density {bar.Density}; it must be zero or positive"));
         }
@@ -233,30 +233,30 @@ public static class ModelValidator
     private static double CheckCombination(ModelDefinition model, Dictionary<string, int> nodes, List<ValidationFinding> findings)
     {
         var sizes = new Dictionary<string, double>(StringComparer.Ordinal);
-        for (int p = 0; p < model.LoadPatterns.Count; p++)
+        for (int p = 0; p < model.LoadSets.Count; p++)
         {
-            var pattern = model.LoadPatterns[p];
-            string path = $"load_patterns[{p}]";
-            if (string.IsNullOrWhiteSpace(pattern.Name)) { findings.Add(Error(FindingCode.MissingId, $"{path}.name", null, $"load pattern at position {p} has no name")); continue; }
-            if (sizes.ContainsKey(pattern.Name)) { findings.Add(Error(FindingCode.DuplicateId, $"{path}.name", pattern.Name, $"load pattern name '{pattern.Name}' is used more than once")); continue; }
+            var set = model.LoadSets[p];
+            string path = $"load_sets[{p}]";
+            if (string.IsNullOrWhiteSpace(set.Name)) { findings.Add(Error(FindingCode.MissingId, $"{path}.name", null, $"load set at position {p} has no name")); continue; }
+            if (sizes.ContainsKey(set.Name)) { findings.Add(Error(FindingCode.DuplicateId, $"{path}.name", set.Name, $"load set name '{set.Name}' is used more than once")); continue; }
             double size = 0;
-            for (int l = 0; l < pattern.Loads.Count; l++)
+            for (int l = 0; l < set.Loads.Count; l++)
             {
-                var load = pattern.Loads[l];
+                var load = set.Loads[l];
                 string lp = $"{path}.loads[{l}]";
                 ResolveNode(load.Node, $"{lp}.node", load.Node, "load", nodes, findings);
                 if (CheckNumber(load.Fx, $"{lp}.fx", load.Node, "force x", findings) & CheckNumber(load.Fy, $"{lp}.fy", load.Node, "force y", findings)
                     & CheckNumber(load.Fz, $"{lp}.fz", load.Node, "force z", findings))
                     size += Math.Abs(load.Fx) + Math.Abs(load.Fy) + Math.Abs(load.Fz);
             }
-            if (pattern.SelfWeight)
+            if (set.SelfWeight)
             {
                 double weight = model.Bars.Where(b => double.IsFinite(b.Density) && b.Density > 0).Sum(b => b.Density * Math.Abs(b.Area));
                 if (weight == 0)
-                    findings.Add(Warning(FindingCode.NegativeDensity, $"{path}.self_weight", pattern.Name, $"load pattern '{pattern.Name}' asks for self-weight but no bar has a density"));
+                    findings.Add(Warning(FindingCode.SelfWeightWithoutDensity, $"{path}.self_weight", set.Name, $"load set '{set.Name}' asks for self-weight but no bar has a density"));
                 size += weight;
             }
-            sizes[pattern.Name] = size;
+            sizes[set.Name] = size;
         }
         var (gx, gy, gz) = model.Gravity;
         if (!double.IsFinite(gx) || !double.IsFinite(gy) || !double.IsFinite(gz))
@@ -267,13 +267,13 @@ public static class ModelValidator
             for (int i = 0; i < list.Count; i++)
             {
                 string path = $"combination.{part}[{i}]";
-                if (!sizes.TryGetValue(list[i].Pattern ?? "", out double size))
+                if (!sizes.TryGetValue(list[i].LoadSet ?? "", out double size))
                 {
-                    if (!model.LoadPatterns.Any(p => p.Name == list[i].Pattern))
-                        findings.Add(Error(FindingCode.UnknownPattern, $"{path}.pattern", list[i].Pattern, $"combination '{combo.Name}' refers to load pattern '{list[i].Pattern}', which is not defined"));
+                    if (!model.LoadSets.Any(p => p.Name == list[i].LoadSet))
+                        findings.Add(Error(FindingCode.UnknownLoadSet, $"{path}.load_set", list[i].LoadSet, $"combination '{combo.Name}' refers to load set '{list[i].LoadSet}', which is not defined"));
                     continue;
                 }
-                if (CheckNumber(list[i].Factor, $"{path}.factor", list[i].Pattern, "factor", findings) && part == "reference")
+                if (CheckNumber(list[i].Factor, $"{path}.factor", list[i].LoadSet, "factor", findings) && part == "reference")
                     reference += Math.Abs(list[i].Factor) * size;
             }
         return reference;
@@ -320,7 +320,7 @@ public static class ModelValidator
         }
         if (Math.Abs(value) > MaxMagnitude)
         {
-            findings.Add(Error(FindingCode.AbsurdMagnitude, path, itemId, $"{what} of '{itemId}' is {value:G4}, beyond ±{MaxMagnitude:G1}; check the units"));
+            findings.Add(Error(FindingCode.MagnitudeBeyondLimit, path, itemId, $"{what} of '{itemId}' is {value:G4}, beyond ±{MaxMagnitude:G1}; check the units"));
             return false;
         }
         return true;

@@ -22,7 +22,7 @@ public sealed class StructuralModel
     public double[] BarArea { get; }
     public double[] BarInitialStress { get; }
     public double[] BarLength { get; }
-    public Elements.BarBehaviour[] BarBehaviour { get; }
+    public Elements.BarBehavior[] BarBehavior { get; }
     public double[] BarYieldStress { get; }
     public double[] BarSecondMoment { get; }
     public double[] BarEffectiveLengthFactor { get; }
@@ -74,11 +74,11 @@ public sealed class StructuralModel
         BarModulus = def.Bars.Select(b => b.ElasticModulus).ToArray();
         BarArea = def.Bars.Select(b => b.Area).ToArray();
         BarInitialStress = def.Bars.Select(b => b.InitialStress).ToArray();
-        BarBehaviour = def.Bars.Select(b => b.Behaviour).ToArray();
+        BarBehavior = def.Bars.Select(b => b.Behavior).ToArray();
         BarYieldStress = def.Bars.Select(b => b.YieldStress).ToArray();
         BarSecondMoment = def.Bars.Select(b => b.SecondMoment).ToArray();
         BarEffectiveLengthFactor = def.Bars.Select(b => b.EffectiveLengthFactor).ToArray();
-        HasMemberLaws = def.Bars.Any(b => b.Behaviour != Elements.BarBehaviour.Elastic || b.YieldStress > 0);
+        HasMemberLaws = def.Bars.Any(b => b.Behavior != Elements.BarBehavior.Elastic || b.YieldStress > 0);
         HasMemberChecks = HasMemberLaws || def.Bars.Any(b => b.SecondMoment > 0);
         BarLength = new double[BarCount];
         for (int b = 0; b < BarCount; b++)

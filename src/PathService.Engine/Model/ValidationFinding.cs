@@ -10,7 +10,8 @@ public enum FindingCode
     DuplicateId,
     UnknownNode,
     NonFiniteNumber,
-    AbsurdMagnitude,
+    /// <summary>A model value beyond ±<see cref="ModelValidator.MaxMagnitude"/> (1e15): almost always a unit mistake.</summary>
+    MagnitudeBeyondLimit,
     ZeroLengthBar,
     SameNodeAtBothEnds,
     NonPositiveStiffness,
@@ -23,7 +24,25 @@ public enum FindingCode
     CoincidentNodes,
     InvalidDirection,
     NegativeDensity,
-    UnknownPattern,
+    UnknownLoadSet,
+    /// <summary>A member-check property out of range: negative yield stress or second moment, non-positive effective-length factor.</summary>
+    MemberPropertyOutOfRange,
+    /// <summary>Warning: a load set asks for self-weight but no bar has a density, so it adds no weight.</summary>
+    SelfWeightWithoutDensity,
+    /// <summary>An enum number outside the contract (continuation method, arc-length constraint, bar behavior).</summary>
+    UnknownOption,
+    /// <summary>A solver control outside its documented range.</summary>
+    ControlOutOfRange,
+    /// <summary>A solver control that the chosen method or another control needs is not given.</summary>
+    ControlMissing,
+    /// <summary>Solver controls that contradict each other, the chosen method or the model.</summary>
+    ControlConflict,
+    /// <summary>An imperfection with neither buckling modes nor an explicit shape.</summary>
+    ImperfectionShapeMissing,
+    /// <summary>An imperfection buckling-mode number outside 1..20 or beyond the modes the model has.</summary>
+    ImperfectionModeOutOfRange,
+    /// <summary>Imperfection weights whose count differs from the number of shapes.</summary>
+    ImperfectionWeightsMismatch,
 }
 
 /// <summary>

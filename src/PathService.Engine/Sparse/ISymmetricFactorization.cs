@@ -26,10 +26,10 @@ public interface ISymmetricFactorization
     double SmallestPivotRatio { get; }
 
     /// <summary>
-    /// Factorises values aligned with Symbolic.Pattern. A pivot with |d_k| &lt;= tinyPivotRatio * scale_k
+    /// Factorises values aligned with Symbolic.Pattern. A pivot with |d_k| &lt;= singularPivotRatio * scale_k
     /// (scale_k = |A_kk|, or max_i |A_ii| if A_kk = 0) gives TinyPivot (usable); zero or non-finite gives ZeroPivot.
     /// </summary>
-    LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11);
+    LdlStatus Factorize(ReadOnlySpan<double> values, double singularPivotRatio = 1e-11);
 
     /// <summary>Overwrites b with A⁻¹b (original ordering).</summary>
     void Solve(Span<double> rhsInPlace);
@@ -52,7 +52,7 @@ public sealed class ScalarLdlAdapter(LdlFactorization inner) : ISymmetricFactori
     public int NegativePivotCount => Inner.NegativePivotCount;
     public int TinyPivotIndex => Inner.TinyPivotIndex;
     public double SmallestPivotRatio => Inner.SmallestPivotRatio;
-    public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11) => Inner.Factorize(values, tinyPivotRatio);
+    public LdlStatus Factorize(ReadOnlySpan<double> values, double singularPivotRatio = 1e-11) => Inner.Factorize(values, singularPivotRatio);
     public void Solve(Span<double> rhsInPlace) => Inner.Solve(rhsInPlace);
     public void Solve(ReadOnlySpan<double> b, Span<double> x) => Inner.Solve(b, x);
     public void Solve2(Span<double> rhs1InPlace, Span<double> rhs2InPlace)

@@ -80,10 +80,10 @@ public sealed class LdlFactorization
 
     /// <summary>
     /// Factorises values aligned with Symbolic.Pattern (length NonZeroCount). No numerical pivoting.
-    /// A pivot with |d_k| &lt;= tinyPivotRatio * scale_k (scale_k = |A_kk|, or max_i |A_ii| if A_kk = 0)
+    /// A pivot with |d_k| &lt;= singularPivotRatio * scale_k (scale_k = |A_kk|, or max_i |A_ii| if A_kk = 0)
     /// gives TinyPivot (factor still usable); a zero or non-finite pivot gives ZeroPivot (factor unusable).
     /// </summary>
-    public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11)
+    public LdlStatus Factorize(ReadOnlySpan<double> values, double singularPivotRatio = 1e-11)
     {
         // Locals let the JIT keep the arrays in registers in the loops below.
         int[] cp = this.cp, ci = this.ci, cs = this.cs, parent = this.parent, perm = this.perm;
@@ -157,7 +157,7 @@ public sealed class LdlFactorization
             }
             double ratio = scale > 0 ? Math.Abs(d) / scale : double.PositiveInfinity;
             if (ratio < SmallestPivotRatio) SmallestPivotRatio = ratio;
-            if (Math.Abs(d) <= tinyPivotRatio * scale)
+            if (Math.Abs(d) <= singularPivotRatio * scale)
             {
                 Status = LdlStatus.TinyPivot;
                 if (TinyPivotIndex < 0) TinyPivotIndex = perm[k];

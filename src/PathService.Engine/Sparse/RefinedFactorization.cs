@@ -106,13 +106,13 @@ public sealed class RefinedFactorization : ISymmetricFactorization
     public int TinyPivotIndex => _inner.TinyPivotIndex;
     public double SmallestPivotRatio => _inner.SmallestPivotRatio;
 
-    public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11)
+    public LdlStatus Factorize(ReadOnlySpan<double> values, double singularPivotRatio = 1e-11)
     {
         // The copy is what the solves are checked against, whatever the caller does with its array afterwards.
         values.CopyTo(_matrix);
         _matrixNorm = double.NaN;
         _diagonalMax = double.NaN;
-        return _inner.Factorize(values, tinyPivotRatio);
+        return _inner.Factorize(values, singularPivotRatio);
     }
 
     public void Solve(Span<double> rhsInPlace)

@@ -143,7 +143,7 @@ public sealed unsafe partial class SupernodalLdlFactorization : ISymmetricFactor
     /// <summary>Bytes held by this factorisation's arrays.</summary>
     public long MemoryBytes => 8L * (_lx.Length + _d.Length + _arena.Length + _solveArrays.Length + 2L * _packA[0].Length * Threads);
 
-    public LdlStatus Factorize(ReadOnlySpan<double> values, double tinyPivotRatio = 1e-11)
+    public LdlStatus Factorize(ReadOnlySpan<double> values, double singularPivotRatio = 1e-11)
     {
         if (values.Length != Symbolic.Pattern.NonZeroCount)
             throw new ArgumentException($"Expected {Symbolic.Pattern.NonZeroCount} values aligned with the pattern, got {values.Length}.", nameof(values));
@@ -164,14 +164,14 @@ public sealed unsafe partial class SupernodalLdlFactorization : ISymmetricFactor
             {
                 _values = null;
             }
-            Diagnose(values, tinyPivotRatio);
+            Diagnose(values, singularPivotRatio);
         }
         _factorized = true;
         return Status;
     }
 
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void Diagnose(ReadOnlySpan<double> values, double tinyPivotRatio)
+    private void Diagnose(ReadOnlySpan<double> values, double singularPivotRatio)
     {
         int[] refPerm = Symbolic.Permutation, mine = _s.MineOfReference, diag = _s.DiagonalSlot;
         double maxDiagonal = 0;
@@ -195,7 +195,7 @@ public sealed unsafe partial class SupernodalLdlFactorization : ISymmetricFactor
             }
             double ratio = scale > 0 ? Math.Abs(d) / scale : double.PositiveInfinity;
             if (ratio < SmallestPivotRatio) SmallestPivotRatio = ratio;
-            if (Math.Abs(d) <= tinyPivotRatio * scale)
+            if (Math.Abs(d) <= singularPivotRatio * scale)
             {
                 Status = LdlStatus.TinyPivot;
                 if (TinyPivotIndex < 0) TinyPivotIndex = orig;

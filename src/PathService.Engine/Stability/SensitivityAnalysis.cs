@@ -224,9 +224,9 @@ internal static class SensitivityAnalysis
     private static (double Constant, double Reference) SelfWeightFactors(ModelDefinition def)
     {
         if (def.Combination is not { } combo) return (0, 0);
-        var selfWeight = def.LoadPatterns.Where(p => p.SelfWeight).Select(p => p.Name).ToHashSet(StringComparer.Ordinal);
-        return (combo.Constant.Where(f => selfWeight.Contains(f.Pattern)).Sum(f => f.Factor),
-                combo.Reference.Where(f => selfWeight.Contains(f.Pattern)).Sum(f => f.Factor));
+        var selfWeight = def.LoadSets.Where(p => p.SelfWeight).Select(p => p.Name).ToHashSet(StringComparer.Ordinal);
+        return (combo.Constant.Where(f => selfWeight.Contains(f.LoadSet)).Sum(f => f.Factor),
+                combo.Reference.Where(f => selfWeight.Contains(f.LoadSet)).Sum(f => f.Factor));
     }
 
     private static List<double[]> Orthonormal(IReadOnlyList<double[]> vectors)

@@ -31,8 +31,12 @@ public static class RpcErrors
         int budget = 16 * 1024;
         foreach (var f in errors.Take(MaxViolations))
         {
-            var v = new BadRequest.Types.FieldViolation { Field = Cut(FieldPaths.ToRequestPath(f.FieldPath), 200), Description = Cut(LogText.CutQuoted(Describe(f)), 400) };
-            budget -= v.Field.Length + v.Description.Length + 8;
+            var v = new BadRequest.Types.FieldViolation
+            {
+                Field = Cut(FieldPaths.ToRequestPath(f.FieldPath), 200), Description = Cut(LogText.CutQuoted(Describe(f)), 400),
+                Reason = FieldPaths.CodeName(f.Code), // the finding's code, the same string CheckModel reports as Finding.code
+            };
+            budget -= v.Field.Length + v.Description.Length + v.Reason.Length + 12;
             if (budget < 0) break;
             bad.FieldViolations.Add(v);
         }
@@ -41,11 +45,14 @@ public static class RpcErrors
         return Build(StatusCode.InvalidArgument, message, bad);
     }
 
-    /// <summary>INVALID_ARGUMENT for one request field the engine does not see (e.g. mode_count).</summary>
-    public static RpcException InvalidField(string field, string description) =>
+    /// <summary>
+    /// INVALID_ARGUMENT for one request field the engine does not see (e.g. mode_count), with its reason code
+    /// (docs/api.md, "Error reasons").
+    /// </summary>
+    public static RpcException InvalidField(string field, string reason, string description) =>
         Build(StatusCode.InvalidArgument, description, new BadRequest
         {
-            FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } },
+            FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description, Reason = reason } },
         });
 
     /// <summary>FAILED_PRECONDITION for a structure that is a mechanism: the model is well-formed but cannot carry load.</summary>
@@ -64,7 +71,7 @@ public static class RpcErrors
     public static RpcException Input(AnalysisInputException ex) =>
         Build(StatusCode.FailedPrecondition, ex.Message,
             new ErrorInfo { Reason = ex.Reason, Domain = Domain, Metadata = { ["field"] = Cut(ex.Field, 200) } },
-            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = Cut(ex.Field, 200), Description = Cut(ex.Message, 400) } } });
+            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = Cut(ex.Field, 200), Description = Cut(ex.Message, 400), Reason = ex.Reason } } });
 
     /// <summary>FAILED_PRECONDITION for a start state that the requested analysis cannot handle (e.g. already unstable).</summary>
     public static RpcException Precondition(string reason, string message) =>

@@ -107,7 +107,7 @@ public static class ServerHost
         app.UseMiddleware<RequestMessageGuard>();
         app.UseMiddleware<JsonRequestGuard>();
         app.MapGrpcService<StructuralPathGrpcService>();
-        app.MapGrpcService<ImperfectionStudyGrpcService>();
+        app.MapGrpcService<ImperfectionSweepGrpcService>();
         app.MapGrpcHealthChecksService();
         if (options.EnableReflection) app.MapGrpcReflectionService();
         if (!string.IsNullOrWhiteSpace(options.Telemetry.HealthPath)) app.MapHealthChecks(options.Telemetry.HealthPath);

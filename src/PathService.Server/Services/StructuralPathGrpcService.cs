@@ -92,7 +92,7 @@ public sealed class StructuralPathGrpcService(
         await frame.RunAsync("AnalyzeLinear", request.Model, context, () =>
         {
             double lf = request.HasLoadFactor ? request.LoadFactor : 1.0;
-            if (!double.IsFinite(lf)) throw RpcErrors.InvalidField("load_factor", $"load_factor is {lf}; it must be finite");
+            if (!double.IsFinite(lf)) throw RpcErrors.InvalidField("load_factor", "NON_FINITE_NUMBER", $"load_factor is {lf}; it must be finite");
             var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
             bool exactMemory = frame.MemoryNeedsExactEstimate(model, 0);
             return new PreparedAnalysis(async call =>
@@ -126,7 +126,7 @@ public sealed class StructuralPathGrpcService(
         {
             int count = request.HasModeCount ? request.ModeCount : 3;
             if (count < 1 || count > limits.Values.MaxBucklingModes)
-                throw RpcErrors.InvalidField("mode_count", $"mode_count is {count}; it must be 1..{limits.Values.MaxBucklingModes}");
+                throw RpcErrors.InvalidField("mode_count", "MODE_COUNT_OUT_OF_RANGE", $"mode_count is {count}; it must be 1..{limits.Values.MaxBucklingModes}");
             var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
             // The subspace iteration keeps four dense blocks of q = max(2p, p + 8) vectors, plus the two matrices.
             int extraVectors = 4 * Math.Max(2 * count, count + 8);
@@ -143,7 +143,7 @@ public sealed class StructuralPathGrpcService(
                     return LinearBucklingAnalysis.Run(model, count, ct: call.Token);
                 });
             }
-            catch (ArgumentOutOfRangeException ex) { throw RpcErrors.InvalidField("mode_count", ex.Message); }
+            catch (ArgumentOutOfRangeException ex) { throw RpcErrors.InvalidField("mode_count", "MODE_COUNT_OUT_OF_RANGE", ex.Message); }
             var mapper = new ResultMapper(model, []);
             response = new FindBucklingModesResponse { Iterations = result.Iterations, Converged = result.Converged, Units = ModelMapper.ToUnits(model.Units) };
             response.Modes.AddRange(result.Modes.Select(mapper.ToMode));

@@ -135,13 +135,13 @@ public class FactorizationTests
     }
 
     [Fact]
-    public void TinyPivotRatio_IsRelativeToTheDiagonalScale()
+    public void SingularPivotRatio_IsRelativeToTheDiagonalScale()
     {
         var pattern = SymmetricPattern.FromEntries(2, new[] { (0, 1) });
         double[] values = { 1e8, 1e8, 1e8 * (1 + 1e-9) };
         var f = new LdlFactorization(LdlSymbolic.Analyze(pattern, OrderingMethod.Natural));
         Assert.Equal(LdlStatus.Success, f.Factorize(values));
-        Assert.Equal(LdlStatus.TinyPivot, f.Factorize(values, tinyPivotRatio: 1e-8));
+        Assert.Equal(LdlStatus.TinyPivot, f.Factorize(values, singularPivotRatio: 1e-8));
     }
 
     [Fact]

@@ -3,7 +3,7 @@ using PathService.Engine.Model;
 
 namespace PathService.Engine.Tests.Unit;
 
-/// <summary>Load patterns, self-weight and factored combinations resolve into F_const and F_ref.</summary>
+/// <summary>Load sets, self-weight and factored combinations resolve into F_const and F_ref.</summary>
 public class LoadCombinationTests
 {
     private static ModelDefinition Frame()
@@ -15,13 +15,13 @@ public class LoadCombinationTests
             Nodes = [new("L", 0, 0, 0), new("R", 8, 0, 0), new("T", 4, 0, 3)],
             Bars = [new("LT", "L", "T", E, A) { Density = 7.85 }, new("TR", "T", "R", E, A) { Density = 7.85 }, new("LR", "L", "R", E, A) { Density = 7.85 }],
             Supports = [.. TestModels.Pin("L"), new("R", Axis.Z), new("R", Axis.Y), new("T", Axis.Y)],
-            LoadPatterns =
+            LoadSets =
             [
-                new LoadPattern("permanent", [new NodalLoad("T", 0, 0, -10)], SelfWeight: true),
-                new LoadPattern("snow", [new NodalLoad("T", 0, 0, -20)]),
+                new LoadSet("permanent", [new NodalLoad("T", 0, 0, -10)], SelfWeight: true),
+                new LoadSet("snow", [new NodalLoad("T", 0, 0, -20)]),
             ],
             // EN 1990 eq. (6.10) with γG = 1.35, γQ = 1.5.
-            Combination = new LoadCombination("ULS", [new PatternFactor("permanent", 1.35)], [new PatternFactor("snow", 1.5)]),
+            Combination = new LoadCombination("ULS", [new LoadSetFactor("permanent", 1.35)], [new LoadSetFactor("snow", 1.5)]),
         };
     }
 
@@ -39,16 +39,29 @@ public class LoadCombinationTests
     }
 
     [Fact]
-    public void Unknown_pattern_and_negative_density_are_reported()
+    public void Unknown_load_set_and_negative_density_are_reported()
     {
         var def = Frame() with
         {
             Bars = [new("LT", "L", "T", 2.1e8, 1e-3) { Density = -1 }, new("TR", "T", "R", 2.1e8, 1e-3), new("LR", "L", "R", 2.1e8, 1e-3)],
-            Combination = new LoadCombination("ULS", [], [new PatternFactor("wind", 1.5)]),
+            Combination = new LoadCombination("ULS", [], [new LoadSetFactor("wind", 1.5)]),
         };
         var findings = ModelValidator.Validate(def);
-        Assert.Contains(findings, f => f.Code == FindingCode.UnknownPattern && f.FieldPath == "combination.reference[0].pattern" && f.Message.Contains("'wind'"));
+        Assert.Contains(findings, f => f.Code == FindingCode.UnknownLoadSet && f.FieldPath == "combination.reference[0].load_set" && f.Message.Contains("'wind'"));
         Assert.Contains(findings, f => f.Code == FindingCode.NegativeDensity && f.FieldPath == "bars[0].density");
         Assert.Contains(findings, f => f.Code == FindingCode.NoReferenceLoad);
+    }
+
+    [Fact]
+    public void Self_weight_without_any_density_is_a_warning_of_its_own()
+    {
+        var def = Frame() with
+        {
+            Bars = [new("LT", "L", "T", 2.1e8, 1e-3), new("TR", "T", "R", 2.1e8, 1e-3), new("LR", "L", "R", 2.1e8, 1e-3)],
+            LoadSets = [new LoadSet("permanent", [new NodalLoad("T", 0, 0, -10)], SelfWeight: true)],
+            Combination = new LoadCombination("SLS", [], [new LoadSetFactor("permanent", 1.0)]),
+        };
+        var f = Assert.Single(ModelValidator.Validate(def), x => x.FieldPath == "load_sets[0].self_weight");
+        Assert.Equal((FindingSeverity.Warning, FindingCode.SelfWeightWithoutDensity, "permanent"), (f.Severity, f.Code, f.ItemId));
     }
 }

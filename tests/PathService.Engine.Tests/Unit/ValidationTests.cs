@@ -56,10 +56,10 @@ public class ValidationTests
     }
 
     [Fact]
-    public void Absurd_magnitude_points_at_units()
+    public void Magnitude_beyond_limit_points_at_units()
     {
         var def = Good() with { Bars = [new("bar-L", "left", "apex", 1e308, 1e-3), new("bar-R", "apex", "right", 2e8, 1e-3)] };
-        var f = Single(def, FindingCode.AbsurdMagnitude);
+        var f = Single(def, FindingCode.MagnitudeBeyondLimit);
         Assert.Equal("bars[0].elastic_modulus", f.FieldPath);
         Assert.Contains("units", f.Message);
     }
@@ -156,15 +156,54 @@ public class ValidationTests
         Assert.Contains("controls.initial_load_increment", paths);
         Assert.Contains("controls.max_points", paths);
         Assert.Contains("controls.monitored[0].node", paths);
+        Assert.Contains(ex.Findings, f => f.FieldPath == "controls.initial_load_increment" && f.Code == FindingCode.ControlOutOfRange);
+        Assert.Contains(ex.Findings, f => f.FieldPath == "controls.max_points" && f.Code == FindingCode.ControlOutOfRange);
+        Assert.Contains(ex.Findings, f => f.FieldPath == "controls.monitored[0].node" && f.Code == FindingCode.UnknownNode);
+    }
+
+    [Fact]
+    public void Each_kind_of_control_fault_has_its_own_code()
+    {
+        var model = StructuralModel.Create(Good());
+        var missing = new SolverControls { Method = ContinuationMethod.DisplacementControl, InitialDisplacementIncrement = 0, TargetDisplacement = 0.1 };
+        var codes = missing.Validate(model).ToDictionary(f => f.FieldPath, f => f.Code);
+        Assert.Equal(FindingCode.ControlMissing, codes["controls.control_dof"]);
+        Assert.Equal(FindingCode.ControlOutOfRange, codes["controls.initial_displacement_increment"]);
+        Assert.Equal(FindingCode.ControlMissing, codes["controls.target_displacement_dof"]);
+
+        var conflict = new SolverControls { Method = ContinuationMethod.LoadControl, SwitchBranches = true };
+        Assert.Equal(FindingCode.ControlConflict, Assert.Single(conflict.Validate(model)).Code);
+
+        var unknown = new SolverControls { Method = (ContinuationMethod)77, Constraint = (ArcLengthConstraint)5 };
+        Assert.All(unknown.Validate(model), f => Assert.Equal(FindingCode.UnknownOption, f.Code));
+        Assert.Equal(2, unknown.Validate(model).Count);
+    }
+
+    [Theory]
+    [InlineData(0.0)]
+    [InlineData(-1e-11)]
+    [InlineData(0.01)]
+    [InlineData(double.NaN)]
+    public void Singular_pivot_ratio_outside_its_range_is_rejected(double ratio)
+    {
+        var f = Assert.Single(new SolverControls { SingularPivotRatio = ratio }.Validate(StructuralModel.Create(Good())));
+        Assert.Equal(("controls.singular_pivot_ratio", FindingCode.ControlOutOfRange), (f.FieldPath, f.Code));
+    }
+
+    [Fact]
+    public void Fallback_alignment_threshold_outside_its_range_is_rejected()
+    {
+        var f = Assert.Single(new SolverControls { FallbackAlignmentThreshold = 1.0 }.Validate(StructuralModel.Create(Good())));
+        Assert.Equal(("controls.fallback_alignment_threshold", FindingCode.ControlOutOfRange), (f.FieldPath, f.Code));
     }
 
     [Fact]
     public void Displacement_control_on_a_restrained_direction_is_rejected()
     {
         var model = StructuralModel.Create(Good());
-        var controls = new SolverControls { Method = ContinuationMethod.DisplacementControl, ControlDof = new("apex", Axis.X), DisplacementIncrement = -0.01 };
+        var controls = new SolverControls { Method = ContinuationMethod.DisplacementControl, ControlDof = new("apex", Axis.X), InitialDisplacementIncrement = -0.01 };
         var ex = Assert.Throws<ModelValidationException>(() => new PathTracer(model, controls).Trace());
-        Assert.Contains(ex.Findings, f => f.FieldPath == "controls.control_dof" && f.Message.Contains("restrained"));
+        Assert.Contains(ex.Findings, f => f.FieldPath == "controls.control_dof" && f.Code == FindingCode.ControlConflict && f.Message.Contains("restrained"));
     }
 }
 
@@ -182,14 +221,16 @@ public class MemberAndBranchValidationTests
         Assert.Contains("bars[0].yield_stress", paths);
         Assert.Contains("bars[0].second_moment", paths);
         Assert.Contains("bars[0].effective_length_factor", paths);
+        Assert.All(ModelValidator.Validate(def), f => Assert.Equal(FindingCode.MemberPropertyOutOfRange, f.Code));
     }
 
     [Fact]
-    public void Unknown_bar_behaviour_is_rejected()
+    public void Unknown_bar_behavior_is_rejected()
     {
-        var def = WithBar(new("bar-L", "left", "apex", 2e8, 1.2e-3) { Behaviour = (Elements.BarBehaviour)9 });
-        var f = Assert.Single(ModelValidator.Validate(def), x => x.FieldPath == "bars[0].behaviour");
+        var def = WithBar(new("bar-L", "left", "apex", 2e8, 1.2e-3) { Behavior = (Elements.BarBehavior)9 });
+        var f = Assert.Single(ModelValidator.Validate(def), x => x.FieldPath == "bars[0].behavior");
         Assert.Equal("bar-L", f.ItemId);
+        Assert.Equal(FindingCode.UnknownOption, f.Code);
     }
 
     [Fact]

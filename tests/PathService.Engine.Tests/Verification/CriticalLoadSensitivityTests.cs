@@ -21,7 +21,7 @@ public class CriticalLoadSensitivityTests
 
     private static CriticalLoadSensitivity Sensitivity(StructuralModel model, CriticalPoint cp, params double[][] extraModes)
     {
-        var sys = new EquilibriumSystem(model, new SolverControls().TinyPivotRatio);
+        var sys = new EquilibriumSystem(model, new SolverControls().SingularPivotRatio);
         var mode = new double[sys.FreeCount];
         model.Dofs.Gather(cp.Mode, mode);
         var u = cp.State!.Displacements;
@@ -117,7 +117,7 @@ public class CriticalLoadSensitivityTests
         };
         var (cp, model) = FirstCritical(def, PostControls());
         Assert.Equal(CriticalPointKind.Bifurcation, cp.Kind);
-        var sys = new EquilibriumSystem(model, new SolverControls().TinyPivotRatio);
+        var sys = new EquilibriumSystem(model, new SolverControls().SingularPivotRatio);
         var u = cp.State!.Displacements;
         sys.Refactor(u);
         // The two sway modes of the top (the free DOFs of node "top": x, y, z).

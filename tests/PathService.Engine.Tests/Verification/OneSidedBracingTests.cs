@@ -24,7 +24,7 @@ public class OneSidedBracingTests
 {
     private const double Side = 4.0, E = 2.1e8, Area = 1.0e-3, H = 1.0; // m, kN/m², m², kN: EA/H = 2.1e5
 
-    private static StructuralModel Panel(BarBehaviour diagonals, double load) => StructuralModel.Create(new ModelDefinition
+    private static StructuralModel Panel(BarBehavior diagonals, double load) => StructuralModel.Create(new ModelDefinition
     {
         Nodes = [new("base-w", 0, 0, 0), new("base-e", Side, 0, 0), new("top-e", Side, 0, Side), new("top-w", 0, 0, Side)],
         Bars =
@@ -32,31 +32,31 @@ public class OneSidedBracingTests
             new("post-w", "base-w", "top-w", E, Area),
             new("post-e", "base-e", "top-e", E, Area),
             new("beam", "top-w", "top-e", E, Area),
-            new("diag-up", "base-w", "top-e", E, Area) { Behaviour = diagonals },
-            new("diag-down", "base-e", "top-w", E, Area) { Behaviour = diagonals },
+            new("diag-up", "base-w", "top-e", E, Area) { Behavior = diagonals },
+            new("diag-down", "base-e", "top-w", E, Area) { Behavior = diagonals },
         ],
         Supports = [.. TestModels.Pin("base-w"), .. TestModels.Pin("base-e"), new("top-w", Axis.Y), new("top-e", Axis.Y)],
         Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("top-w", load, 0, 0)),
     });
 
     /// <summary>Hand statics above: bar forces in the order post-w, post-e, beam, diag-up, diag-down.</summary>
-    private static double[] Expected(BarBehaviour diagonals, double sign)
+    private static double[] Expected(BarBehavior diagonals, double sign)
     {
         double r2 = Math.Sqrt(2) * H;
-        if (diagonals == BarBehaviour.TensionOnly)
+        if (diagonals == BarBehavior.TensionOnly)
             return sign > 0 ? [0, -H, -H, r2, 0] : [-H, 0, 0, 0, r2];
         return sign > 0 ? [H, 0, 0, 0, -r2] : [0, H, H, -r2, 0];
     }
 
-    private static string SlackDiagonal(BarBehaviour diagonals, double sign) =>
-        (diagonals == BarBehaviour.TensionOnly) == (sign > 0) ? "diag-down" : "diag-up";
+    private static string SlackDiagonal(BarBehavior diagonals, double sign) =>
+        (diagonals == BarBehavior.TensionOnly) == (sign > 0) ? "diag-down" : "diag-up";
 
     [Theory]
-    [InlineData(BarBehaviour.TensionOnly, 1.0)]
-    [InlineData(BarBehaviour.TensionOnly, -1.0)]
-    [InlineData(BarBehaviour.CompressionOnly, 1.0)]
-    [InlineData(BarBehaviour.CompressionOnly, -1.0)]
-    public void Linear_analysis_puts_the_load_in_the_working_diagonal_and_leaves_the_other_slack(BarBehaviour diagonals, double sign)
+    [InlineData(BarBehavior.TensionOnly, 1.0)]
+    [InlineData(BarBehavior.TensionOnly, -1.0)]
+    [InlineData(BarBehavior.CompressionOnly, 1.0)]
+    [InlineData(BarBehavior.CompressionOnly, -1.0)]
+    public void Linear_analysis_puts_the_load_in_the_working_diagonal_and_leaves_the_other_slack(BarBehavior diagonals, double sign)
     {
         var r = LinearStaticAnalysis.Run(Panel(diagonals, sign * H));
         var expected = Expected(diagonals, sign);
@@ -68,11 +68,11 @@ public class OneSidedBracingTests
     }
 
     [Theory]
-    [InlineData(BarBehaviour.TensionOnly, 1.0)]
-    [InlineData(BarBehaviour.TensionOnly, -1.0)]
-    [InlineData(BarBehaviour.CompressionOnly, 1.0)]
-    [InlineData(BarBehaviour.CompressionOnly, -1.0)]
-    public void Nonlinear_trace_agrees_with_the_hand_statics_at_a_small_load(BarBehaviour diagonals, double sign)
+    [InlineData(BarBehavior.TensionOnly, 1.0)]
+    [InlineData(BarBehavior.TensionOnly, -1.0)]
+    [InlineData(BarBehavior.CompressionOnly, 1.0)]
+    [InlineData(BarBehavior.CompressionOnly, -1.0)]
+    public void Nonlinear_trace_agrees_with_the_hand_statics_at_a_small_load(BarBehavior diagonals, double sign)
     {
         var events = new PathTracer(Panel(diagonals, sign * H), new SolverControls
         {
@@ -94,16 +94,16 @@ public class OneSidedBracingTests
     [Fact]
     public void One_sided_bar_is_active_at_zero_stress_and_slack_only_beyond_it()
     {
-        var atRest = BarMaterial.Respond(BarBehaviour.TensionOnly, E, 0, 0, 0.0, 0);
+        var atRest = BarMaterial.Respond(BarBehavior.TensionOnly, E, 0, 0, 0.0, 0);
         Assert.Equal((0.0, E, BarRegime.Elastic), (atRest.Stress, atRest.TangentModulus, atRest.Regime));
-        var shortened = BarMaterial.Respond(BarBehaviour.TensionOnly, E, 0, 0, -1e-12, 0);
+        var shortened = BarMaterial.Respond(BarBehavior.TensionOnly, E, 0, 0, -1e-12, 0);
         Assert.Equal((0.0, 0.0, BarRegime.Slack), (shortened.Stress, shortened.TangentModulus, shortened.Regime));
-        var strut = BarMaterial.Respond(BarBehaviour.CompressionOnly, E, 0, 0, 0.0, 0);
+        var strut = BarMaterial.Respond(BarBehavior.CompressionOnly, E, 0, 0, 0.0, 0);
         Assert.Equal((E, BarRegime.Elastic), (strut.TangentModulus, strut.Regime));
-        Assert.Equal(BarRegime.Slack, BarMaterial.Respond(BarBehaviour.CompressionOnly, E, 0, 0, 1e-12, 0).Regime);
+        Assert.Equal(BarRegime.Slack, BarMaterial.Respond(BarBehavior.CompressionOnly, E, 0, 0, 1e-12, 0).Regime);
         // With prestress the rule is on the stress: a cable pretensioned to S0 stays taut down to ε = −S0/E.
-        Assert.Equal(BarRegime.Elastic, BarMaterial.Respond(BarBehaviour.TensionOnly, E, 1e3, 0, -0.99e3 / E, 0).Regime);
-        Assert.Equal(BarRegime.Slack, BarMaterial.Respond(BarBehaviour.TensionOnly, E, 1e3, 0, -1.01e3 / E, 0).Regime);
+        Assert.Equal(BarRegime.Elastic, BarMaterial.Respond(BarBehavior.TensionOnly, E, 1e3, 0, -0.99e3 / E, 0).Regime);
+        Assert.Equal(BarRegime.Slack, BarMaterial.Respond(BarBehavior.TensionOnly, E, 1e3, 0, -1.01e3 / E, 0).Regime);
     }
 
     /// <summary>
@@ -114,7 +114,7 @@ public class OneSidedBracingTests
     [Fact]
     public void Panel_braced_by_cables_without_prestress_is_not_a_mechanism_but_without_them_it_is()
     {
-        var start = new PathTracer(Panel(BarBehaviour.TensionOnly, H), new SolverControls { MaxPoints = 1 }).Trace().OfType<PathPoint>().First();
+        var start = new PathTracer(Panel(BarBehavior.TensionOnly, H), new SolverControls { MaxPoints = 1 }).Trace().OfType<PathPoint>().First();
         Assert.Equal(0, start.NegativePivots);
         var unbraced = new ModelDefinition
         {
@@ -139,7 +139,7 @@ public class OneSidedBracingTests
         var def = new ModelDefinition
         {
             Nodes = [new("anchor", -1, 0, 0), new("slider", 0, 0, 0)],
-            Bars = [new("strut", "anchor", "slider", 1e4, 1e-2, 1e3) { Behaviour = BarBehaviour.CompressionOnly }],
+            Bars = [new("strut", "anchor", "slider", 1e4, 1e-2, 1e3) { Behavior = BarBehavior.CompressionOnly }],
             GroundSprings = [new GroundSpringDefinition("guide", "slider", Axis.X, 1.0)],
             Supports = [.. TestModels.Pin("anchor"), new("slider", Axis.Y), new("slider", Axis.Z)],
             Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("slider", -0.5, 0, 0)),
@@ -159,7 +159,7 @@ public class OneSidedBracingTests
     {
         using var cts = new CancellationTokenSource();
         cts.Cancel();
-        Assert.ThrowsAny<OperationCanceledException>(() => LinearStaticAnalysis.Run(Panel(BarBehaviour.TensionOnly, H), cancellationToken: cts.Token));
+        Assert.ThrowsAny<OperationCanceledException>(() => LinearStaticAnalysis.Run(Panel(BarBehavior.TensionOnly, H), cancellationToken: cts.Token));
     }
 
     /// <summary>
@@ -195,8 +195,8 @@ public class OneSidedBracingTests
                 if (c < 2)
                 {
                     bars.Add(new($"beam{c}{f}", N(c, f), N(c + 1, f), E, 4e-3));
-                    bars.Add(new($"up{c}{f}", N(c, f - 1), N(c + 1, f), E, 5e-4) { Behaviour = BarBehaviour.TensionOnly });
-                    bars.Add(new($"down{c}{f}", N(c + 1, f - 1), N(c, f), E, 5e-4) { Behaviour = BarBehaviour.TensionOnly });
+                    bars.Add(new($"up{c}{f}", N(c, f - 1), N(c + 1, f), E, 5e-4) { Behavior = BarBehavior.TensionOnly });
+                    bars.Add(new($"down{c}{f}", N(c + 1, f - 1), N(c, f), E, 5e-4) { Behavior = BarBehavior.TensionOnly });
                 }
             }
         var model = StructuralModel.Create(new ModelDefinition
@@ -210,7 +210,7 @@ public class OneSidedBracingTests
             FullStateEvery = 1, DetectCriticalPoints = false,
         }).Trace().ToList();
         var state = trace.OfType<PathPoint>().Single(p => p.Index == 1).State!;
-        var slackInTrace = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehaviour[b] == BarBehaviour.TensionOnly && state.BarForces[b] == 0)
+        var slackInTrace = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehavior[b] == BarBehavior.TensionOnly && state.BarForces[b] == 0)
             .Select(b => model.BarIds[b]).ToArray();
         Assert.NotEmpty(linear.SlackBars);
         Assert.True(linear.SlackBars.Count < 12, "some diagonals must work");

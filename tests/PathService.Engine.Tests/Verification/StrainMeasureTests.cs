@@ -26,7 +26,7 @@ public class StrainMeasureTests
         var end = new DofReference("free", Axis.X);
         var events = new PathTracer(StructuralModel.Create(def), new SolverControls
         {
-            Method = ContinuationMethod.DisplacementControl, ControlDof = end, DisplacementIncrement = 0.01,
+            Method = ContinuationMethod.DisplacementControl, ControlDof = end, InitialDisplacementIncrement = 0.01,
             TargetDisplacement = engineering * L0, ResidualTolerance = 1e-13, MaxPoints = 200,
         }).Trace().ToList();
         var last = events.OfType<PathPoint>().Last();

@@ -110,7 +110,7 @@ public class TwoBarTrussTests
         var apex = new DofReference("apex", Axis.Y);
         var controls = new SolverControls
         {
-            Method = ContinuationMethod.DisplacementControl, ControlDof = apex, DisplacementIncrement = -0.02,
+            Method = ContinuationMethod.DisplacementControl, ControlDof = apex, InitialDisplacementIncrement = -0.02,
             TargetDisplacement = -2.2 * H, Monitored = [apex], MaxPoints = 500, ResidualTolerance = 1e-12,
         };
         var events = new PathTracer(model, controls).Trace().ToList();

@@ -5,7 +5,7 @@ using PathService.Engine.Tests.Fixtures;
 namespace PathService.Engine.Tests.Unit;
 
 /// <summary>How the tracer behaves as a stream: lazy, cancellable, never leaking a NaN.</summary>
-public class TracingBehaviourTests
+public class TracingBehaviorTests
 {
     private static StructuralModel Dome() => StructuralModel.Create(LatticeDome.Create(rise: 1.5, perRing: 10, loadedRings: 0));
 

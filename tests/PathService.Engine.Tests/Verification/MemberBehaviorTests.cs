@@ -5,7 +5,7 @@ using PathService.Engine.Model;
 namespace PathService.Engine.Tests.Verification;
 
 /// <summary>Tension-only cables, elastic-perfectly-plastic bars and the Euler check, against closed forms.</summary>
-public class MemberBehaviourTests
+public class MemberBehaviorTests
 {
     private const double E = 1.6e8, A = 2.0e-4, L = 5.0;
 
@@ -24,8 +24,8 @@ public class MemberBehaviourTests
             Nodes = [new("west", -L, 0, 0), new("ring", 0, 0, 0), new("east", L, 0, 0)],
             Bars =
             [
-                new("cable-w", "west", "ring", E, A, s0) { Behaviour = BarBehaviour.TensionOnly },
-                new("cable-e", "ring", "east", E, A, s0) { Behaviour = BarBehaviour.TensionOnly },
+                new("cable-w", "west", "ring", E, A, s0) { Behavior = BarBehavior.TensionOnly },
+                new("cable-e", "ring", "east", E, A, s0) { Behavior = BarBehavior.TensionOnly },
             ],
             Supports = [.. TestModels.Pin("west"), .. TestModels.Pin("east"), new("ring", Axis.Y), new("ring", Axis.Z)],
             Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("ring", 1.0, 0, 0)),
@@ -33,7 +33,7 @@ public class MemberBehaviourTests
         var ring = new DofReference("ring", Axis.X);
         var events = new PathTracer(StructuralModel.Create(def), new SolverControls
         {
-            Method = ContinuationMethod.DisplacementControl, ControlDof = ring, DisplacementIncrement = 1e-3,
+            Method = ContinuationMethod.DisplacementControl, ControlDof = ring, InitialDisplacementIncrement = 1e-3,
             TargetDisplacement = 0.03, Monitored = [ring], ResidualTolerance = 1e-12, MaxPoints = 500,
         }).Trace().ToList();
 
@@ -72,7 +72,7 @@ public class MemberBehaviourTests
         var end = new DofReference("end", Axis.X);
         var events = new PathTracer(StructuralModel.Create(def), new SolverControls
         {
-            Method = ContinuationMethod.DisplacementControl, ControlDof = end, DisplacementIncrement = 2e-3,
+            Method = ContinuationMethod.DisplacementControl, ControlDof = end, InitialDisplacementIncrement = 2e-3,
             TargetDisplacement = 0.05, Monitored = [end], ResidualTolerance = 1e-12, MaxPoints = 500, FullStateEvery = 1,
         }).Trace().ToList();
 
@@ -80,7 +80,7 @@ public class MemberBehaviourTests
         double py = A * sy * (L + uy) / L;
         var yield = Assert.Single(events.OfType<MemberEvent>(), e => e.Kind == MemberEventKind.Yield);
         Assert.Equal(py, yield.OnsetLoadFactor, 1e-3 * py);
-        Assert.Equal(1.0, yield.Utilisation, 1e-9);
+        Assert.Equal(1.0, yield.Utilization, 1e-9);
         foreach (var p in events.OfType<PathPoint>().Where(p => p.Monitored[0] > uy + 1e-9))
         {
             double ell = L + p.Monitored[0];

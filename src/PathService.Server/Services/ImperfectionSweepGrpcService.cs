@@ -13,8 +13,8 @@ namespace PathService.Server.Services;
 /// streamed as each trace finishes. One analysis slot and one time limit (<c>Limits:MaxSweepSeconds</c>) for the whole
 /// sweep, under the same limits as every analysis.
 /// </summary>
-public sealed class ImperfectionStudyGrpcService(RequestLimits limits, AnalysisFrame frame, ILogger<ImperfectionStudyGrpcService> logger)
-    : ImperfectionStudyService.ImperfectionStudyServiceBase
+public sealed class ImperfectionSweepGrpcService(RequestLimits limits, AnalysisFrame frame, ILogger<ImperfectionSweepGrpcService> logger)
+    : ImperfectionSweepService.ImperfectionSweepServiceBase
 {
     public const int MaxAmplitudes = 50;
 
@@ -22,9 +22,9 @@ public sealed class ImperfectionStudyGrpcService(RequestLimits limits, AnalysisF
         frame.RunAsync("SweepImperfections", request.Model, context, () =>
         {
             limits.CheckControls(request.Controls);
-            if (request.Amplitudes.Count == 0) throw RpcErrors.InvalidField("amplitudes", "give at least one imperfection amplitude");
+            if (request.Amplitudes.Count == 0) throw RpcErrors.InvalidField("amplitudes", "AMPLITUDES_MISSING", "give at least one imperfection amplitude");
             if (request.Amplitudes.Count > MaxAmplitudes) throw RpcErrors.TooLarge("amplitudes", "amplitudes", $"{request.Amplitudes.Count} amplitudes; at most {MaxAmplitudes} per sweep");
-            if (request.Imperfection is null) throw RpcErrors.InvalidField("imperfection", "give the imperfection shape (buckling_modes or shape)");
+            if (request.Imperfection is null) throw RpcErrors.InvalidField("imperfection", "IMPERFECTION_SHAPE_MISSING", "give the imperfection shape (buckling_modes or shape)");
             var model = AnalysisFrame.BuildModel(request.Model, request.LoadCase);
             var controls = ControlsMapper.ToControls(request.Controls, limits.DefaultMaxPoints, limits.MaxTraceTime);
             var problems = controls.Validate(model);
