@@ -85,26 +85,9 @@ public sealed record SolverControls
     /// <summary>Design sensitivities of λ_cr at every located critical point (theory §13): per bar, node and spring.</summary>
     public bool DesignSensitivities { get; init; }
 
-    /// <summary>A design direction over the model's parameters; each located critical point then also reports dλ_cr
-    /// along it. Needs <see cref="DesignSensitivities"/>.</summary>
-    public PathService.Engine.Stability.DesignDirection? DesignDirection { get; init; }
-
-    private void ValidateDirection(PathService.Engine.Stability.DesignDirection d, StructuralModel model, Action<string, string> err)
-    {
-        if (!DesignSensitivities) err("design_direction", "a design direction needs design_sensitivities");
-        void Part(double[]? v, int expected, string field, string what)
-        {
-            if (v is null || v.Length == 0) return;
-            if (v.Length != expected) { err($"design_direction.{field}", $"design_direction.{field} has {v.Length} values; the model has {expected} {what}"); return; }
-            for (int i = 0; i < v.Length; i++)
-                if (!double.IsFinite(v[i])) { err($"design_direction.{field}[{i}]", $"design_direction.{field}[{i}] is {v[i]}; it must be finite"); return; }
-        }
-        Part(d.BarArea, model.BarCount, "bar_area", "bars");
-        Part(d.BarModulus, model.BarCount, "bar_modulus", "bars");
-        Part(d.NodeCoordinates, 3 * model.NodeCount, "node_coordinates", "node coordinates (3 per node)");
-        Part(d.GroundSpringStiffness, model.GroundSpringStiffness.Length, "ground_spring_stiffness", "ground springs");
-        Part(d.LinkSpringStiffness, model.LinkSpringStiffness.Length, "link_spring_stiffness", "link springs");
-    }
+    /// <summary>A design direction over the model's parameters, by ids; each located critical point then also reports
+    /// dλ_cr along it. Needs <see cref="DesignSensitivities"/>.</summary>
+    public PathService.Engine.Stability.DesignChanges? DesignDirection { get; init; }
 
     /// <summary>Checks the controls against the model; returns every problem with its field name.</summary>
     public IReadOnlyList<ValidationFinding> Validate(StructuralModel model)
@@ -149,7 +132,11 @@ public sealed record SolverControls
         if (!double.IsFinite(BranchPerturbation) || BranchPerturbation <= 0 || BranchPerturbation > 100) Err("branch_perturbation", "branch_perturbation must lie in (0, 100]");
         if (FullStateEvery < 0) Err("full_state_every", "full_state_every must be zero or positive");
         if (WallTimeLimit is { } w && w <= TimeSpan.Zero) Err("wall_time_limit", "wall_time_limit must be positive");
-        if (DesignDirection is { } dd) ValidateDirection(dd, model, Err);
+        if (DesignDirection is { } dd)
+        {
+            if (!DesignSensitivities) Err("design_direction", "a design direction needs design_sensitivities");
+            dd.Resolve(model, (field, message) => Err(field, message));
+        }
         return f;
     }
 }

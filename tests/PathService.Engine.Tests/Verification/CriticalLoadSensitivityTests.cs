@@ -208,7 +208,7 @@ public class CriticalLoadSensitivityTests
         var controls = TrussControls() with
         {
             DesignSensitivities = true, TargetDisplacementDof = new DofReference("apex", Axis.Y), TargetDisplacement = -2.3 * H,
-            DesignDirection = new DesignDirection(BarArea: [a, 0]), // one bar's area doubled, to first order
+            DesignDirection = new DesignChanges(Bars: [new BarChange("bar-L", Area: a)]), // one bar's area doubled, to first order
         };
         var limits = new PathTracer(truss, controls).Trace().OfType<CriticalPoint>().ToList();
         Assert.Equal(2, limits.Count); // the upper and the lower limit point
@@ -237,10 +237,11 @@ public class CriticalLoadSensitivityTests
     public void A_design_direction_that_does_not_fit_the_model_is_refused_with_its_field()
     {
         var truss = StructuralModel.Create(TestModels.TwoBarTruss(B, H, EA, PRef));
-        var findings = (TrussControls() with { DesignDirection = new DesignDirection(BarArea: [1.0], NodeCoordinates: [double.NaN, 0, 0, 0, 0, 0, 0, 0, 0]) }).Validate(truss);
+        var changes = new DesignChanges(Bars: [new BarChange("bar-Q", Area: 1)], Nodes: [new NodeChange("apex", X: double.NaN)]);
+        var findings = (TrussControls() with { DesignDirection = changes }).Validate(truss);
         Assert.Contains(findings, f => f.FieldPath == "controls.design_direction" && f.Message.Contains("needs design_sensitivities"));
-        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.bar_area" && f.Message.Contains("has 1 values; the model has 2 bars"));
-        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.node_coordinates[0]");
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.bars[0].bar" && f.Message.Contains("'bar-Q', which is not in the model"));
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.nodes[0]" && f.Message.Contains("not finite"));
     }
 
     private static void AssertRelative(double expected, double actual, double tolerance, string what)
