@@ -59,8 +59,17 @@ public static class ControlsMapper
             BranchPerturbation = c.HasBranchPerturbation ? c.BranchPerturbation : d.BranchPerturbation,
             FullStateAtCriticalPoints = c.HasFullStateAtCriticalPoints ? c.FullStateAtCriticalPoints : d.FullStateAtCriticalPoints,
             FullStateAtEnd = c.HasFullStateAtEnd ? c.FullStateAtEnd : d.FullStateAtEnd,
+            DesignSensitivities = c.DesignSensitivities,
+            DesignDirection = ToChanges(c.DesignDirection),
         };
     }
+
+    /// <summary>The caller's design direction by ids; ids and values are checked against the model by the controls' validation.</summary>
+    private static Engine.Stability.DesignChanges? ToChanges(Proto.DesignDirection? d) => d is null ? null : new(
+        d.Bars.Select(b => new Engine.Stability.BarChange(b.Bar, b.Area, b.ElasticModulus)).ToArray(),
+        d.Nodes.Select(n => new Engine.Stability.NodeChange(n.Node, n.X, n.Y, n.Z)).ToArray(),
+        d.GroundSprings.Select(s => new Engine.Stability.SpringChange(s.Spring, s.Stiffness)).ToArray(),
+        d.LinkSprings.Select(s => new Engine.Stability.SpringChange(s.Spring, s.Stiffness)).ToArray());
 
     /// <summary>A malformed Duration (seconds and nanos of different sign, out of range) becomes a non-positive limit the validator rejects.</summary>
     private static TimeSpan ToTimeSpan(Duration d)

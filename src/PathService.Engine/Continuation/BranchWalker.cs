@@ -353,6 +353,7 @@ internal sealed class BranchWalker(TraceSession s)
         var found = locator.Locate(ua, la, na, ub, lb, nb, _modeGuess, s.Ct, factorAtB: true);
         _factorOfBranch = -1;
         var list = new List<CriticalPoint>(found.Count);
+        var factored = locator.FactoredDisplacement;
         foreach (var r in found)
         {
             var primary = r.ModesFree[0];
@@ -364,6 +365,18 @@ internal sealed class BranchWalker(TraceSession s)
                 : r.LoadTurns is { } turns ? (turns ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation)
                 : alignment >= c.FallbackAlignmentThreshold ? CriticalPointKind.LimitPoint : CriticalPointKind.Bifurcation;
             bool keepState = c.FullStateAtCriticalPoints || c.SwitchBranches;
+            CriticalLoadSensitivity? sensitivity = null;
+            double? directional = null;
+            if (c.DesignSensitivities && r.Located && !r.Folded)
+            {
+                // A limit point needs no factorisation; a bifurcation one solve with the tangent at the located state,
+                // refactorised only when the locator's last factorisation belongs to another state (theory §13).
+                bool factorAtU = ReferenceEquals(factored, r.Displacement);
+                if (kind == CriticalPointKind.Bifurcation && !factorAtU) factored = null;
+                sensitivity = SensitivityAnalysis.Compute(sys, r.Displacement, r.LoadFactor, r.ModesFree, kind, factorAtU);
+                if (kind == CriticalPointKind.Bifurcation && !factorAtU) factored = r.Displacement;
+                if (sensitivity.Defined && c.DesignDirection is { } changes) directional = sensitivity.Directional(changes.Resolve(s.Model, (_, _) => { }));
+            }
             list.Add(new CriticalPoint(0, kind, r.LoadFactor, la, lb, before, after, r.NegativeBefore, r.NegativeAfter, r.Eigenvalue, alignment,
                 s.Monitored.Select(d => r.Displacement[d]).ToArray(), FullMode(primary), r.Located, r.Tolerance,
                 keepState ? sys.Snapshot(r.Displacement, r.LoadFactor) : null)
@@ -372,6 +385,8 @@ internal sealed class BranchWalker(TraceSession s)
                 AdditionalModes = r.ModesFree.Skip(1).Select(FullMode).ToArray(),
                 LocationNote = r.Note,
                 Folded = r.Folded,
+                Sensitivity = sensitivity,
+                DirectionalSensitivity = directional,
             });
         }
         return list;

@@ -72,6 +72,12 @@ public sealed record CriticalPoint(
     /// <summary>Why the location did not meet the tolerance (empty when <see cref="Located"/>).</summary>
     public string LocationNote { get; init; } = "";
 
+    /// <summary>Design sensitivities of λ_cr (theory §13) when the controls ask for them and the point is located; else null.</summary>
+    public PathService.Engine.Stability.CriticalLoadSensitivity? Sensitivity { get; init; }
+
+    /// <summary>dλ_cr along the caller's design direction (<see cref="SolverControls.DesignDirection"/>), when given and defined.</summary>
+    public double? DirectionalSensitivity { get; init; }
+
     /// <summary>Engine-internal: the step's chord could not order the states around this point (the walker then shortens the step).</summary>
     internal bool Folded { get; init; }
 }

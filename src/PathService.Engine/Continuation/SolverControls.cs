@@ -82,6 +82,13 @@ public sealed record SolverControls
     public bool FullStateAtCriticalPoints { get; init; } = true;
     public bool FullStateAtEnd { get; init; } = true;
 
+    /// <summary>Design sensitivities of λ_cr at every located critical point (theory §13): per bar, node and spring.</summary>
+    public bool DesignSensitivities { get; init; }
+
+    /// <summary>A design direction over the model's parameters, by ids; each located critical point then also reports
+    /// dλ_cr along it. Needs <see cref="DesignSensitivities"/>.</summary>
+    public PathService.Engine.Stability.DesignChanges? DesignDirection { get; init; }
+
     /// <summary>Checks the controls against the model; returns every problem with its field name.</summary>
     public IReadOnlyList<ValidationFinding> Validate(StructuralModel model)
     {
@@ -131,6 +138,11 @@ public sealed record SolverControls
         if (!double.IsFinite(BranchPerturbation) || BranchPerturbation <= 0 || BranchPerturbation > 100) Err("branch_perturbation", "branch_perturbation must lie in (0, 100]");
         if (FullStateEvery < 0) Err("full_state_every", "full_state_every must be zero or positive");
         if (WallTimeLimit is { } w && w <= TimeSpan.Zero) Err("wall_time_limit", "wall_time_limit must be positive");
+        if (DesignDirection is { } dd)
+        {
+            if (!DesignSensitivities) Err("design_direction", "a design direction needs design_sensitivities");
+            dd.Resolve(model, (field, message) => Err(field, message));
+        }
         return f;
     }
 }

@@ -56,3 +56,73 @@ public sealed record CriticalLoadSensitivity(
 public sealed record DesignDirection(
     double[]? BarArea = null, double[]? BarModulus = null, double[]? NodeCoordinates = null,
     double[]? GroundSpringStiffness = null, double[]? LinkSpringStiffness = null);
+
+/// <summary>A bar's share of a design change: its area and modulus change by these amounts (per unit of the direction).</summary>
+public sealed record BarChange(string Bar, double Area = 0, double Modulus = 0);
+
+/// <summary>A node's share of a design change: its initial coordinates move by (X, Y, Z).</summary>
+public sealed record NodeChange(string Node, double X = 0, double Y = 0, double Z = 0);
+
+/// <summary>A spring's share of a design change: its stiffness changes by this amount.</summary>
+public sealed record SpringChange(string Spring, double Stiffness);
+
+/// <summary>
+/// A design change as a caller names it, by ids (the form the contract carries): parameters not named do not change.
+/// <see cref="Resolve"/> turns it into the model-ordered <see cref="DesignDirection"/>.
+/// </summary>
+public sealed record DesignChanges(
+    IReadOnlyList<BarChange>? Bars = null, IReadOnlyList<NodeChange>? Nodes = null,
+    IReadOnlyList<SpringChange>? GroundSprings = null, IReadOnlyList<SpringChange>? LinkSprings = null)
+{
+    /// <summary>The direction in model order; every unknown id or non-finite value is reported through <paramref name="error"/> (field, message).</summary>
+    public DesignDirection Resolve(Model.StructuralModel m, Action<string, string> error)
+    {
+        var area = new double[m.BarCount];
+        var modulus = new double[m.BarCount];
+        var coords = new double[3 * m.NodeCount];
+        var ground = new double[m.GroundSpringStiffness.Length];
+        var link = new double[m.LinkSpringStiffness.Length];
+        var barIndex = Index(m.BarIds);
+        for (int i = 0; i < (Bars?.Count ?? 0); i++)
+        {
+            var c = Bars![i];
+            string f = $"design_direction.bars[{i}]";
+            if (!barIndex.TryGetValue(c.Bar, out int b)) { error(f + ".bar", $"{f} names bar '{Clip(c.Bar)}', which is not in the model"); continue; }
+            if (!double.IsFinite(c.Area) || !double.IsFinite(c.Modulus)) { error(f, $"{f} ('{Clip(c.Bar)}') has a value that is not finite"); continue; }
+            area[b] += c.Area; modulus[b] += c.Modulus;
+        }
+        for (int i = 0; i < (Nodes?.Count ?? 0); i++)
+        {
+            var c = Nodes![i];
+            string f = $"design_direction.nodes[{i}]";
+            if (!m.TryGetNode(c.Node, out int n)) { error(f + ".node", $"{f} names node '{Clip(c.Node)}', which is not in the model"); continue; }
+            if (!double.IsFinite(c.X) || !double.IsFinite(c.Y) || !double.IsFinite(c.Z)) { error(f, $"{f} ('{Clip(c.Node)}') has a value that is not finite"); continue; }
+            coords[3 * n] += c.X; coords[3 * n + 1] += c.Y; coords[3 * n + 2] += c.Z;
+        }
+        Springs(GroundSprings, Index(m.GroundSpringIds), ground, "ground_springs", error);
+        Springs(LinkSprings, Index(m.LinkSpringIds), link, "link_springs", error);
+        return new DesignDirection(area, modulus, coords, ground, link);
+    }
+
+    private static void Springs(IReadOnlyList<SpringChange>? changes, Dictionary<string, int> index, double[] into, string field, Action<string, string> error)
+    {
+        for (int i = 0; i < (changes?.Count ?? 0); i++)
+        {
+            var c = changes![i];
+            string f = $"design_direction.{field}[{i}]";
+            if (!index.TryGetValue(c.Spring, out int s)) { error(f + ".spring", $"{f} names spring '{Clip(c.Spring)}', which is not in the model"); continue; }
+            if (!double.IsFinite(c.Stiffness)) { error(f + ".stiffness", $"{f} ('{Clip(c.Spring)}') stiffness is not finite"); continue; }
+            into[s] += c.Stiffness;
+        }
+    }
+
+    private static Dictionary<string, int> Index(string[] ids)
+    {
+        var d = new Dictionary<string, int>(ids.Length, StringComparer.Ordinal);
+        for (int i = 0; i < ids.Length; i++) d.TryAdd(ids[i], i);
+        return d;
+    }
+
+    /// <summary>Caller strings quoted in messages are cut to 64 characters.</summary>
+    private static string Clip(string s) => s.Length <= 64 ? s : s[..64] + "…";
+}

@@ -56,6 +56,10 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     private int _trials;
     private State? _factored; // the state the factorisation in place belongs to (null: none of ours)
 
+    /// <summary>The displacement vector whose tangent the factorisation in place holds after <c>Locate</c> (null: none
+    /// of the located states'); a caller compares it by reference with a result's <c>Displacement</c>.</summary>
+    public double[]? FactoredDisplacement => _factored?.U;
+
     /// <param name="factorAtB">True when the system's factorisation is already the tangent at u_b (saves one).</param>
     public List<Result> Locate(double[] ua, double lambdaA, int na, double[] ub, double lambdaB, int nb, double[]? modeGuess, CancellationToken ct,
         bool factorAtB = false)

@@ -199,6 +199,51 @@ public class CriticalLoadSensitivityTests
         }
     }
 
+    /// <summary>The trace itself computes the sensitivities when asked, at each located critical point, with the same values.</summary>
+    [Fact]
+    public void The_trace_reports_sensitivities_and_the_directional_derivative_at_each_located_critical_point()
+    {
+        var truss = StructuralModel.Create(TestModels.TwoBarTruss(B, H, EA, PRef));
+        double a = EA / E;
+        var controls = TrussControls() with
+        {
+            DesignSensitivities = true, TargetDisplacementDof = new DofReference("apex", Axis.Y), TargetDisplacement = -2.3 * H,
+            DesignDirection = new DesignChanges(Bars: [new BarChange("bar-L", Area: a)]), // one bar's area doubled, to first order
+        };
+        var limits = new PathTracer(truss, controls).Trace().OfType<CriticalPoint>().ToList();
+        Assert.Equal(2, limits.Count); // the upper and the lower limit point
+        double l0 = Math.Sqrt(B * B + H * H);
+        double pl = 2 * EA * H * H * H / (3 * Math.Sqrt(3) * l0 * l0 * l0);
+        foreach (var cp in limits)
+        {
+            Assert.NotNull(cp.Sensitivity);
+            Assert.True(cp.Sensitivity!.Defined, cp.Sensitivity.Note);
+            // λ ∝ A at both limit points (±P_L): each bar carries half.
+            AssertRelative(0.5 * cp.LoadFactor / a, cp.Sensitivity.BarArea[0], 1e-13, $"dλ/dA at λ = {cp.LoadFactor}");
+            AssertRelative(0.5 * cp.LoadFactor, cp.DirectionalSensitivity!.Value, 1e-13, "directional derivative");
+            AssertRelative(pl / PRef, Math.Abs(cp.LoadFactor), 1e-9, "limit load");
+        }
+
+        var post = StructuralModel.Create(TestModels.SpringHeldPost(L, PostEA, K, PRef));
+        var bif = new PathTracer(post, PostControls() with { DesignSensitivities = true }).Trace().OfType<CriticalPoint>().Single();
+        Assert.Equal(CriticalPointKind.Bifurcation, bif.Kind);
+        double sq = Math.Sqrt(1 - 2 * K * L / PostEA);
+        AssertRelative((L * sq - K * L * L / (PostEA * sq)) / PRef, bif.Sensitivity!.GroundSpringStiffness[0], 3e-9, "dλ/dk from the trace");
+        // Without the option the trace computes nothing.
+        Assert.Null(new PathTracer(post, PostControls()).Trace().OfType<CriticalPoint>().Single().Sensitivity);
+    }
+
+    [Fact]
+    public void A_design_direction_that_does_not_fit_the_model_is_refused_with_its_field()
+    {
+        var truss = StructuralModel.Create(TestModels.TwoBarTruss(B, H, EA, PRef));
+        var changes = new DesignChanges(Bars: [new BarChange("bar-Q", Area: 1)], Nodes: [new NodeChange("apex", X: double.NaN)]);
+        var findings = (TrussControls() with { DesignDirection = changes }).Validate(truss);
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction" && f.Message.Contains("needs design_sensitivities"));
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.bars[0].bar" && f.Message.Contains("'bar-Q', which is not in the model"));
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.nodes[0]" && f.Message.Contains("not finite"));
+    }
+
     private static void AssertRelative(double expected, double actual, double tolerance, string what)
     {
         double error = Math.Abs(actual - expected) / Math.Abs(expected);
