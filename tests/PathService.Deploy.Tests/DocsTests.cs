@@ -11,6 +11,15 @@ public class DocsTests(LiveServer server)
 {
     private static string Doc(string name) => File.ReadAllText(PathOf("docs", name));
 
+    /// <summary>Every finding code the engine can raise is in the error-reasons table of docs/api.md, as it goes on the wire.</summary>
+    [Fact]
+    public void Every_finding_code_is_documented_in_the_error_reasons_table()
+    {
+        string api = Doc("api.md");
+        foreach (var code in Enum.GetValues<PathService.Engine.Model.FindingCode>())
+            Assert.Contains($"| `{PathService.Contracts.Mapping.FieldPaths.CodeName(code)}` |", api);
+    }
+
     [Theory]
     [InlineData("operations.md")]
     [InlineData("api.md")]

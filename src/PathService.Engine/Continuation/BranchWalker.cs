@@ -375,7 +375,7 @@ internal sealed class BranchWalker(TraceSession s)
                 if (kind == CriticalPointKind.Bifurcation && !factorAtU) factored = null;
                 sensitivity = SensitivityAnalysis.Compute(sys, r.Displacement, r.LoadFactor, r.ModesFree, kind, factorAtU);
                 if (kind == CriticalPointKind.Bifurcation && !factorAtU) factored = r.Displacement;
-                if (sensitivity.Defined && c.DesignDirection is { } changes) directional = sensitivity.Directional(changes.Resolve(s.Model, (_, _) => { }));
+                if (sensitivity.Defined && c.DesignDirection is { } changes) directional = sensitivity.Directional(changes.Resolve(s.Model, (_, _, _) => { }));
             }
             list.Add(new CriticalPoint(0, kind, r.LoadFactor, la, lb, before, after, r.NegativeBefore, r.NegativeAfter, r.Eigenvalue, alignment,
                 s.Monitored.Select(d => r.Displacement[d]).ToArray(), FullMode(primary), r.Located, r.Tolerance,

@@ -140,8 +140,8 @@ public sealed record SolverControls
         if (WallTimeLimit is { } w && w <= TimeSpan.Zero) Err("wall_time_limit", "wall_time_limit must be positive");
         if (DesignDirection is { } dd)
         {
-            if (!DesignSensitivities) Err("design_direction", "a design direction needs design_sensitivities");
-            dd.Resolve(model, (field, message) => Err(field, message));
+            if (!DesignSensitivities) Missing("design_sensitivities", "a design direction needs design_sensitivities");
+            dd.Resolve(model, (code, field, message) => Add(code, field, message));
         }
         return f;
     }

@@ -43,6 +43,8 @@ public enum FindingCode
     ImperfectionModeOutOfRange,
     /// <summary>Imperfection weights whose count differs from the number of shapes.</summary>
     ImperfectionWeightsMismatch,
+    /// <summary>A design direction names a bar, node or spring that is not in the model.</summary>
+    UnknownDesignItem,
 }
 
 /// <summary>

@@ -74,8 +74,9 @@ public sealed record DesignChanges(
     IReadOnlyList<BarChange>? Bars = null, IReadOnlyList<NodeChange>? Nodes = null,
     IReadOnlyList<SpringChange>? GroundSprings = null, IReadOnlyList<SpringChange>? LinkSprings = null)
 {
-    /// <summary>The direction in model order; every unknown id or non-finite value is reported through <paramref name="error"/> (field, message).</summary>
-    public DesignDirection Resolve(Model.StructuralModel m, Action<string, string> error)
+    /// <summary>The direction in model order; every unknown id (UnknownDesignItem) or non-finite value (NonFiniteNumber) is
+    /// reported through <paramref name="error"/> (code, field, message).</summary>
+    public DesignDirection Resolve(Model.StructuralModel m, Action<Model.FindingCode, string, string> error)
     {
         var area = new double[m.BarCount];
         var modulus = new double[m.BarCount];
@@ -87,16 +88,16 @@ public sealed record DesignChanges(
         {
             var c = Bars![i];
             string f = $"design_direction.bars[{i}]";
-            if (!barIndex.TryGetValue(c.Bar, out int b)) { error(f + ".bar", $"{f} names bar '{Clip(c.Bar)}', which is not in the model"); continue; }
-            if (!double.IsFinite(c.Area) || !double.IsFinite(c.Modulus)) { error(f, $"{f} ('{Clip(c.Bar)}') has a value that is not finite"); continue; }
+            if (!barIndex.TryGetValue(c.Bar, out int b)) { error(Model.FindingCode.UnknownDesignItem, f + ".bar", $"{f} names bar '{Clip(c.Bar)}', which is not in the model"); continue; }
+            if (!double.IsFinite(c.Area) || !double.IsFinite(c.Modulus)) { error(Model.FindingCode.NonFiniteNumber, f, $"{f} ('{Clip(c.Bar)}') has a value that is not finite"); continue; }
             area[b] += c.Area; modulus[b] += c.Modulus;
         }
         for (int i = 0; i < (Nodes?.Count ?? 0); i++)
         {
             var c = Nodes![i];
             string f = $"design_direction.nodes[{i}]";
-            if (!m.TryGetNode(c.Node, out int n)) { error(f + ".node", $"{f} names node '{Clip(c.Node)}', which is not in the model"); continue; }
-            if (!double.IsFinite(c.X) || !double.IsFinite(c.Y) || !double.IsFinite(c.Z)) { error(f, $"{f} ('{Clip(c.Node)}') has a value that is not finite"); continue; }
+            if (!m.TryGetNode(c.Node, out int n)) { error(Model.FindingCode.UnknownDesignItem, f + ".node", $"{f} names node '{Clip(c.Node)}', which is not in the model"); continue; }
+            if (!double.IsFinite(c.X) || !double.IsFinite(c.Y) || !double.IsFinite(c.Z)) { error(Model.FindingCode.NonFiniteNumber, f, $"{f} ('{Clip(c.Node)}') has a value that is not finite"); continue; }
             coords[3 * n] += c.X; coords[3 * n + 1] += c.Y; coords[3 * n + 2] += c.Z;
         }
         Springs(GroundSprings, Index(m.GroundSpringIds), ground, "ground_springs", error);
@@ -104,14 +105,14 @@ public sealed record DesignChanges(
         return new DesignDirection(area, modulus, coords, ground, link);
     }
 
-    private static void Springs(IReadOnlyList<SpringChange>? changes, Dictionary<string, int> index, double[] into, string field, Action<string, string> error)
+    private static void Springs(IReadOnlyList<SpringChange>? changes, Dictionary<string, int> index, double[] into, string field, Action<Model.FindingCode, string, string> error)
     {
         for (int i = 0; i < (changes?.Count ?? 0); i++)
         {
             var c = changes![i];
             string f = $"design_direction.{field}[{i}]";
-            if (!index.TryGetValue(c.Spring, out int s)) { error(f + ".spring", $"{f} names spring '{Clip(c.Spring)}', which is not in the model"); continue; }
-            if (!double.IsFinite(c.Stiffness)) { error(f + ".stiffness", $"{f} ('{Clip(c.Spring)}') stiffness is not finite"); continue; }
+            if (!index.TryGetValue(c.Spring, out int s)) { error(Model.FindingCode.UnknownDesignItem, f + ".spring", $"{f} names spring '{Clip(c.Spring)}', which is not in the model"); continue; }
+            if (!double.IsFinite(c.Stiffness)) { error(Model.FindingCode.NonFiniteNumber, f + ".stiffness", $"{f} ('{Clip(c.Spring)}') stiffness is not finite"); continue; }
             into[s] += c.Stiffness;
         }
     }

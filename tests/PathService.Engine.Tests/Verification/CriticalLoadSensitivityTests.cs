@@ -239,9 +239,9 @@ public class CriticalLoadSensitivityTests
         var truss = StructuralModel.Create(TestModels.TwoBarTruss(B, H, EA, PRef));
         var changes = new DesignChanges(Bars: [new BarChange("bar-Q", Area: 1)], Nodes: [new NodeChange("apex", X: double.NaN)]);
         var findings = (TrussControls() with { DesignDirection = changes }).Validate(truss);
-        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction" && f.Message.Contains("needs design_sensitivities"));
-        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.bars[0].bar" && f.Message.Contains("'bar-Q', which is not in the model"));
-        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.nodes[0]" && f.Message.Contains("not finite"));
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_sensitivities" && f.Code == FindingCode.ControlMissing && f.Message.Contains("needs design_sensitivities"));
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.bars[0].bar" && f.Code == FindingCode.UnknownDesignItem && f.Message.Contains("'bar-Q', which is not in the model"));
+        Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.nodes[0]" && f.Code == FindingCode.NonFiniteNumber && f.Message.Contains("not finite"));
     }
 
     private static void AssertRelative(double expected, double actual, double tolerance, string what)
