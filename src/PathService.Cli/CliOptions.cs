@@ -25,8 +25,8 @@ internal static class CliOptions
     };
 
     // Outputs of trace and demo.
-    public static readonly Option<string?> Out = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg", HelpName = "DIR" };
-    public static readonly Option<string?> DemoOut = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg", HelpName = "DIR", Required = true };
+    public static readonly Option<string?> Out = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg (and sensitivity.csv, sensitivity.svg with --design-sensitivities)", HelpName = "DIR" };
+    public static readonly Option<string?> DemoOut = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg (and sensitivity.csv, sensitivity.svg with --design-sensitivities)", HelpName = "DIR", Required = true };
     public static readonly Option<string?> Csv = new("--csv") { Description = "write the path table (one row per converged point) to FILE", HelpName = "FILE" };
     public static readonly Option<string?> Jsonl = new("--jsonl") { Description = "write every streamed message as one JSON line to FILE", HelpName = "FILE" };
     public static readonly Option<string?> Summary = new("--summary") { Description = "write the closing summary and critical points as JSON to FILE", HelpName = "FILE" };
@@ -35,6 +35,12 @@ internal static class CliOptions
     public static readonly Option<int> CurveMonitored = Whole("--curve-monitored", "which monitored displacement the curve plots (1-based)", min: 1, fallback: 1);
     public static readonly Option<int?> ShapeAt = WholeOrNone("--shape-at", "point index of the deformed shape (the point must carry its full state; default: the last such point)", min: 0);
     public static readonly Option<double?> ShapeScale = Number("--shape-scale", "displacement magnification of the deformed shape (default: picked and stated on the picture)", v => v > 0, "a positive number");
+    public static readonly Option<bool> DesignSensitivities = new("--design-sensitivities")
+    {
+        Description = "compute the design sensitivities of λ_cr at every located critical point (per bar, node and spring); with --out also writes sensitivity.csv and sensitivity.svg",
+    };
+    public static readonly Option<string?> SensitivityCsv = new("--sensitivity-csv") { Description = "write the design sensitivities of every critical point (one row per parameter) to FILE", HelpName = "FILE" };
+    public static readonly Option<string?> SensitivitySvg = new("--sensitivity-svg") { Description = "write the members coloured by dλ_cr/dV at the first critical point (SVG) to FILE", HelpName = "FILE" };
     public static readonly Option<bool> Quiet = new("--quiet") { Description = "no live lines and no summary table (files are still written)" };
 
     // check, linear, buckling.

@@ -13,6 +13,7 @@ internal static class TraceCommand
     {
         var rec = new PathRecorder();
         bool quiet = o.GetValue(Quiet);
+        if (o.GetValue(DesignSensitivities)) (request.Controls ??= new SolverControls()).DesignSensitivities = true;
         if (!quiet) ConsoleReport.Header(request, backend.Description);
         await foreach (var r in backend.TraceAsync(request, ct))
         {
@@ -27,11 +28,13 @@ internal static class TraceCommand
     public static void WriteOutputs(TracePathRequest request, PathRecorder rec, ParseResult o, Option<string?> outFolder)
     {
         var written = new List<string>();
-        void Write(string? path, Func<string?> content)
+        const string NoState = "no point carries the full state; set controls.fullStateEvery or fullStateAtEnd";
+        const string NoSensitivity = "no located critical point carries design sensitivities; use --design-sensitivities";
+        void Write(string? path, Func<string?> content, string whyEmpty = NoState)
         {
             if (path is null) return;
             string? text = content();
-            if (text is null) { Console.Error.WriteLine($"nothing to write to {path} (no point carries the full state; set controls.fullStateEvery or fullStateAtEnd)"); return; }
+            if (text is null) { Console.Error.WriteLine($"nothing to write to {path} ({whyEmpty})"); return; }
             Directory.CreateDirectory(Path.GetDirectoryName(Path.GetFullPath(path))!);
             File.WriteAllText(path, text);
             written.Add(path);
@@ -45,12 +48,22 @@ internal static class TraceCommand
             Write(Path.Combine(dir, "events.csv"), rec.EventsCsv);
             Write(Path.Combine(dir, "curve.svg"), () => Pictures.Curve(request, rec, o.GetValue(CurveMonitored) - 1));
             Write(Path.Combine(dir, "shape.svg"), () => Pictures.Shape(request, rec, o.GetValue(ShapeAt), o.GetValue(ShapeScale)));
+            if (rec.Criticals.Any(c => c.Sensitivity is { Defined: true }))
+            {
+                Write(Path.Combine(dir, "sensitivity.csv"), () => rec.SensitivityCsv(Force(request), Length(request)), NoSensitivity);
+                Write(Path.Combine(dir, "sensitivity.svg"), () => Pictures.Sensitivity(request, rec), NoSensitivity);
+            }
         }
         Write(o.GetValue(Csv), rec.Csv);
         Write(o.GetValue(Jsonl), rec.JsonLines);
         Write(o.GetValue(Summary), rec.SummaryJson);
         Write(o.GetValue(CurveSvg), () => Pictures.Curve(request, rec, o.GetValue(CurveMonitored) - 1));
         Write(o.GetValue(ShapeSvg), () => Pictures.Shape(request, rec, o.GetValue(ShapeAt), o.GetValue(ShapeScale)));
+        Write(o.GetValue(SensitivityCsv), () => rec.SensitivityCsv(Force(request), Length(request)), NoSensitivity);
+        Write(o.GetValue(SensitivitySvg), () => Pictures.Sensitivity(request, rec), NoSensitivity);
         foreach (var w in written) Console.WriteLine($"wrote {w}");
     }
+
+    private static string Force(TracePathRequest r) => string.IsNullOrWhiteSpace(r.Model?.Units?.Force) ? "kN" : r.Model.Units.Force;
+    private static string Length(TracePathRequest r) => string.IsNullOrWhiteSpace(r.Model?.Units?.Length) ? "m" : r.Model.Units.Length;
 }

@@ -74,6 +74,16 @@ internal static class ConsoleReport
                 Console.WriteLine($"{c.Sequence,3} {Labels.Of(c.Kind),-12} {Math.Max(1, c.Multiplicity),12} {c.LoadFactor,16:G10} " +
                                   $"{(c.Located ? c.Tolerance.ToString("G2", CultureInfo.InvariantCulture) : "not located"),15} {$"{c.LoadFactorBefore:G6} … {c.LoadFactorAfter:G6}",32} {c.LoadAlignment,14:G3}");
         }
+        foreach (var c in rec.Criticals.Where(c => c.Sensitivity is not null))
+        {
+            Console.WriteLine();
+            if (!c.Sensitivity.Defined) { Console.WriteLine($"design sensitivities at #{c.Sequence}: not defined ({c.Sensitivity.Note})"); continue; }
+            var best = c.Sensitivity.Bars.OrderByDescending(b => b.Volume).Take(5).Where(b => b.Volume > 0).ToList();
+            Console.WriteLine($"design sensitivities at #{c.Sequence} ({c.Sensitivity.Note}): members where added material raises λ_cr most, dλ_cr/dV");
+            foreach (var b in best) Console.WriteLine($"  {b.Bar,-20} {b.Volume,14:G5}");
+            if (c.Sensitivity.HasDirectional) Console.WriteLine($"  along the design direction: dλ_cr = {c.Sensitivity.Directional:G6}");
+            if (c.Sensitivity.Breaking.Count > 0) Console.WriteLine($"  {c.Sensitivity.Breaking.Count} parameter(s) break the bifurcation's symmetry (see sensitivity.csv / the breaking list)");
+        }
         if (rec.Turns.Count > 0)
         {
             Console.WriteLine();

@@ -69,6 +69,44 @@ internal sealed class PathRecorder
     private static string I(int v) => v.ToString(CultureInfo.InvariantCulture);
     private static string Quote(string s) => s.Length == 0 ? "" : "\"" + s.Replace("\"", "\"\"") + "\"";
 
+    /// <summary>
+    /// Design sensitivities of every critical point that carries them, one row per parameter: the critical point,
+    /// its λ_cr and kind, the item (bar, node, ground or link spring), the parameter and dλ_cr per unit of it, with the
+    /// unit of that derivative in the request's labels. Null when no critical point carries sensitivities.
+    /// </summary>
+    public string? SensitivityCsv(string force, string length)
+    {
+        var with = Criticals.Where(c => c.Sensitivity is { Defined: true }).ToList();
+        if (with.Count == 0) return null;
+        var sb = new StringBuilder();
+        sb.AppendLine("critical_point,load_factor,kind,item_kind,item,parameter,derivative,unit");
+        foreach (var c in with)
+        {
+            string head = $"{I(c.Sequence)},{F(c.LoadFactor)},{Labels.Of(c.Kind)}";
+            void Row(string kind, string item, string parameter, double d, string unit) =>
+                sb.AppendLine($"{head},{kind},{Cell(item)},{parameter},{F(d)},{unit}");
+            var s = c.Sensitivity;
+            foreach (var b in s.Bars)
+            {
+                Row("bar", b.Bar, "area", b.Area, $"1/{length}²");
+                Row("bar", b.Bar, "elastic_modulus", b.ElasticModulus, $"{length}²/{force}");
+                Row("bar", b.Bar, "volume", b.Volume, $"1/{length}³");
+            }
+            foreach (var n in s.Nodes)
+            {
+                Row("node", n.Node, "x", n.X, $"1/{length}");
+                Row("node", n.Node, "y", n.Y, $"1/{length}");
+                Row("node", n.Node, "z", n.Z, $"1/{length}");
+            }
+            foreach (var g in s.GroundSprings) Row("ground_spring", g.Spring, "stiffness", g.Stiffness, $"{length}/{force}");
+            foreach (var l in s.LinkSprings) Row("link_spring", l.Spring, "stiffness", l.Stiffness, $"{length}/{force}");
+        }
+        return sb.ToString();
+    }
+
+    /// <summary>A caller's id as a CSV cell (quoted when it holds a comma, quote or line break).</summary>
+    private static string Cell(string s) => s.IndexOfAny([',', '"', '\n', '\r']) < 0 ? s : "\"" + s.Replace("\"", "\"\"") + "\"";
+
     public string JsonLines() => string.Join('\n', _jsonLines) + "\n";
 
     public string SummaryJson()

@@ -1,9 +1,10 @@
 using PathService.Cli.Plots;
+using PathService.Client;
 using PathService.Contracts.V1;
 
 namespace PathService.Cli.Output;
 
-/// <summary>Builds the SVG pictures of a recorded trace: the load-displacement curve and deformed shapes.</summary>
+/// <summary>Builds the SVG pictures of a recorded trace: the load-displacement curve, deformed shapes and the material gain.</summary>
 internal static class Pictures
 {
     /// <summary>Load factor against monitored displacement number <paramref name="which"/> (0-based).</summary>
@@ -51,6 +52,25 @@ internal static class Pictures
         var forces = model.Bars.Select(b => force.GetValueOrDefault(b.Id)).ToArray();
         return DeformedShapePlot.Render(new ShapeInput($"{Name(request)}: deformed shape at point {point.Index}, λ = {point.LoadFactor:G5}",
             Unit(model.Units?.Length, "m"), coords, bars, disp, forces, scale, Cautions.Short, UpAxis(request)));
+    }
+
+    /// <summary>
+    /// Members coloured by dλ_cr/dV at the first critical point whose sensitivities are defined (or the one of sequence
+    /// <paramref name="sequence"/>); null when no critical point carries them.
+    /// </summary>
+    public static string? Sensitivity(TracePathRequest request, PathRecorder rec, int? sequence = null)
+    {
+        var model = request.Model;
+        var cp = rec.Criticals.FirstOrDefault(c => c.Sensitivity is { Defined: true } && (sequence is null || c.Sequence == sequence));
+        if (model is null || cp is null) return null;
+        var index = model.Nodes.Select((n, k) => (n.Id, k)).ToDictionary(t => t.Id, t => t.k);
+        var coords = model.Nodes.SelectMany(n => new[] { n.X, n.Y, n.Z }).ToArray();
+        var bars = model.Bars.Select(b => (index[b.StartNode], index[b.EndNode])).ToArray();
+        var byBar = cp.Sensitivity.Bars.ToDictionary(b => b.Bar, b => b.Volume);
+        var gain = model.Bars.Select(b => byBar.GetValueOrDefault(b.Id)).ToArray();
+        string kind = Labels.Of(cp.Kind).Replace('_', ' ');
+        return SensitivityPlot.Render(new SensitivityInput($"{Name(request)}: where material raises λ_cr (critical point {cp.Sequence}, {kind}, λ_cr = {cp.LoadFactor:G6})",
+            Unit(model.Units?.Length, "m"), coords, bars, model.Bars.Select(b => b.Id).ToArray(), gain, UpAxis(request), Cautions.Short));
     }
 
     /// <summary>Up axis from gravity when self-weight is used, else from the resultant of the loads (see DeformedShapePlot.UpAxisOf).</summary>
