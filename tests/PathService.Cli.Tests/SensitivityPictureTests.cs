@@ -76,7 +76,7 @@ public class SensitivityOutputTests
             Assert.True(code == 0, stderr + stdout);
             Assert.Contains("members where added material raises λ_cr most", stdout);
             var rows = File.ReadAllLines(Path.Combine(dir, "sensitivity.csv"));
-            Assert.Equal("critical_point,load_factor,kind,item_kind,item,parameter,derivative,unit", rows[0]);
+            Assert.Equal("critical_point,load_factor,kind,item_kind,item,parameter,derivative,unit,breaks_bifurcation", rows[0]);
             var areaRows = rows.Skip(1).Select(r => r.Split(',')).Where(c => c[3] == "bar" && c[5] == "area").ToList();
             Assert.Equal(4, areaRows.Count); // two bars at each of the two limit points
             foreach (var c in areaRows)
@@ -85,6 +85,7 @@ public class SensitivityOutputTests
                 double d = double.Parse(c[6], System.Globalization.CultureInfo.InvariantCulture);
                 Assert.Equal("limit_point", c[2]);
                 Assert.Equal("1/m²", c[7]);
+                Assert.Equal("false", c[8]); // a limit point breaks nothing
                 Assert.True(Math.Abs(d - lambda / (2 * area)) <= 1e-12 * Math.Abs(d), $"{string.Join(',', c)}");
             }
             string svg = File.ReadAllText(Path.Combine(dir, "sensitivity.svg"));

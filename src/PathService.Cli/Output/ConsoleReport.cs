@@ -82,7 +82,10 @@ internal static class ConsoleReport
             Console.WriteLine($"design sensitivities at #{c.Sequence} ({c.Sensitivity.Note}): members where added material raises λ_cr most, dλ_cr/dV");
             foreach (var b in best) Console.WriteLine($"  {b.Bar,-20} {b.Volume,14:G5}");
             if (c.Sensitivity.HasDirectional) Console.WriteLine($"  along the design direction: dλ_cr = {c.Sensitivity.Directional:G6}");
-            if (c.Sensitivity.Breaking.Count > 0) Console.WriteLine($"  {c.Sensitivity.Breaking.Count} parameter(s) break the bifurcation's symmetry (see sensitivity.csv / the breaking list)");
+            int breaking = c.Sensitivity.Bars.Count(b => b.BreaksBifurcation) + c.Sensitivity.Nodes.Sum(n => n.BreaksBifurcationAlong.Length)
+                           + c.Sensitivity.GroundSprings.Count(s => s.BreaksBifurcation) + c.Sensitivity.LinkSprings.Count(s => s.BreaksBifurcation);
+            if (breaking > 0)
+                Console.WriteLine($"  {breaking} parameter(s) break the bifurcation's symmetry: their change acts as an imperfection (column breaks_bifurcation of sensitivity.csv)");
         }
         if (rec.Turns.Count > 0)
         {

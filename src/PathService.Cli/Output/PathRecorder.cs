@@ -79,27 +79,27 @@ internal sealed class PathRecorder
         var with = Criticals.Where(c => c.Sensitivity is { Defined: true }).ToList();
         if (with.Count == 0) return null;
         var sb = new StringBuilder();
-        sb.AppendLine("critical_point,load_factor,kind,item_kind,item,parameter,derivative,unit");
+        sb.AppendLine("critical_point,load_factor,kind,item_kind,item,parameter,derivative,unit,breaks_bifurcation");
         foreach (var c in with)
         {
             string head = $"{I(c.Sequence)},{F(c.LoadFactor)},{Labels.Of(c.Kind)}";
-            void Row(string kind, string item, string parameter, double d, string unit) =>
-                sb.AppendLine($"{head},{kind},{Cell(item)},{parameter},{F(d)},{unit}");
+            void Row(string kind, string item, string parameter, double d, string unit, bool breaks) =>
+                sb.AppendLine($"{head},{kind},{Cell(item)},{parameter},{F(d)},{unit},{(breaks ? "true" : "false")}");
             var s = c.Sensitivity;
             foreach (var b in s.Bars)
             {
-                Row("bar", b.Bar, "area", b.Area, $"1/{length}²");
-                Row("bar", b.Bar, "elastic_modulus", b.ElasticModulus, $"{length}²/{force}");
-                Row("bar", b.Bar, "volume", b.Volume, $"1/{length}³");
+                Row("bar", b.Bar, "area", b.Area, $"1/{length}²", b.BreaksBifurcation);
+                Row("bar", b.Bar, "elastic_modulus", b.ElasticModulus, $"{length}²/{force}", b.BreaksBifurcation);
+                Row("bar", b.Bar, "volume", b.Volume, $"1/{length}³", b.BreaksBifurcation);
             }
             foreach (var n in s.Nodes)
             {
-                Row("node", n.Node, "x", n.X, $"1/{length}");
-                Row("node", n.Node, "y", n.Y, $"1/{length}");
-                Row("node", n.Node, "z", n.Z, $"1/{length}");
+                Row("node", n.Node, "x", n.X, $"1/{length}", n.BreaksBifurcationAlong.Contains('x'));
+                Row("node", n.Node, "y", n.Y, $"1/{length}", n.BreaksBifurcationAlong.Contains('y'));
+                Row("node", n.Node, "z", n.Z, $"1/{length}", n.BreaksBifurcationAlong.Contains('z'));
             }
-            foreach (var g in s.GroundSprings) Row("ground_spring", g.Spring, "stiffness", g.Stiffness, $"{length}/{force}");
-            foreach (var l in s.LinkSprings) Row("link_spring", l.Spring, "stiffness", l.Stiffness, $"{length}/{force}");
+            foreach (var g in s.GroundSprings) Row("ground_spring", g.Spring, "stiffness", g.Stiffness, $"{length}/{force}", g.BreaksBifurcation);
+            foreach (var l in s.LinkSprings) Row("link_spring", l.Spring, "stiffness", l.Stiffness, $"{length}/{force}", l.BreaksBifurcation);
         }
         return sb.ToString();
     }

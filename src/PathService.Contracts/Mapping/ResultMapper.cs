@@ -89,16 +89,15 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             Method = s.Method == Engine.Stability.SensitivityMethod.LimitPoint ? Proto.SensitivityMethod.LimitPoint : Proto.SensitivityMethod.ZeroEigenvalue,
         };
         if (directional is { } d) m.Directional = d;
-        m.Breaking.AddRange(s.Breaking);
         if (!s.Defined) return m;
         for (int b = 0; b < model.BarCount; b++)
-            m.Bars.Add(new Proto.BarSensitivity { Bar = model.BarIds[b], Area = s.BarArea[b], ElasticModulus = s.BarModulus[b], Volume = s.BarVolume[b] });
+            m.Bars.Add(new Proto.BarSensitivity { Bar = model.BarIds[b], Area = s.BarArea[b], ElasticModulus = s.BarModulus[b], Volume = s.BarVolume[b], BreaksBifurcation = s.Breaks.Bars[b] });
         for (int n = 0; n < model.NodeCount; n++)
-            m.Nodes.Add(new Proto.NodeSensitivity { Node = model.NodeIds[n], X = s.NodeCoordinates[3 * n], Y = s.NodeCoordinates[3 * n + 1], Z = s.NodeCoordinates[3 * n + 2] });
+            m.Nodes.Add(new Proto.NodeSensitivity { Node = model.NodeIds[n], X = s.NodeCoordinates[3 * n], Y = s.NodeCoordinates[3 * n + 1], Z = s.NodeCoordinates[3 * n + 2], BreaksBifurcationAlong = s.Breaks.NodeAxes[n] });
         for (int k = 0; k < s.GroundSpringStiffness.Length; k++)
-            m.GroundSprings.Add(new Proto.SpringSensitivity { Spring = model.GroundSpringIds[k], Stiffness = s.GroundSpringStiffness[k] });
+            m.GroundSprings.Add(new Proto.SpringSensitivity { Spring = model.GroundSpringIds[k], Stiffness = s.GroundSpringStiffness[k], BreaksBifurcation = s.Breaks.GroundSprings[k] });
         for (int k = 0; k < s.LinkSpringStiffness.Length; k++)
-            m.LinkSprings.Add(new Proto.SpringSensitivity { Spring = model.LinkSpringIds[k], Stiffness = s.LinkSpringStiffness[k] });
+            m.LinkSprings.Add(new Proto.SpringSensitivity { Spring = model.LinkSpringIds[k], Stiffness = s.LinkSpringStiffness[k], BreaksBifurcation = s.Breaks.LinkSprings[k] });
         return m;
     }
 

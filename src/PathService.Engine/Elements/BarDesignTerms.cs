@@ -31,7 +31,9 @@ internal static class BarDesignTerms
     /// </summary>
     // Called once per bar per critical point, so it is rarely re-jitted by tiering: optimise it from the first call.
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    public static void Derivatives(in Bar bar, ReadOnlySpan<double> phi, Span<double> force, Span<double> weight, Span<double> quadratic)
+    /// <param name="forces">False when only <paramref name="quadratic"/> is wanted (another mode of the same bar):
+    /// <paramref name="force"/> and <paramref name="weight"/> are then left as they are.</param>
+    public static void Derivatives(in Bar bar, ReadOnlySpan<double> phi, Span<double> force, Span<double> weight, Span<double> quadratic, bool forces = true)
     {
         double X = bar.Xj - bar.Xi, Y = bar.Yj - bar.Yi, Z = bar.Zj - bar.Zi;
         double l2 = X * X + Y * Y + Z * Z, l0 = Math.Sqrt(l2), l3 = l2 * l0;
@@ -49,13 +51,15 @@ internal static class BarDesignTerms
             ff = fx * fx + fy * fy + fz * fz;
         }
 
-        // Area: f, the self-weight and q are all proportional to A.
-        force[0] = S / l0 * cx; force[1] = S / l0 * cy; force[2] = S / l0 * cz;
-        weight[0] = half * l0 * bar.Gx; weight[1] = half * l0 * bar.Gy; weight[2] = half * l0 * bar.Gz;
-        // Modulus: S = Eε + S0, so ∂S/∂E = ε.
+        // Area: f, the self-weight and q are all proportional to A. Modulus: S = Eε + S0, so ∂S/∂E = ε.
         double fe = A * strain / l0;
-        force[3] = fe * cx; force[4] = fe * cy; force[5] = fe * cz;
-        weight[3] = weight[4] = weight[5] = 0;
+        if (forces)
+        {
+            force[0] = S / l0 * cx; force[1] = S / l0 * cy; force[2] = S / l0 * cz;
+            weight[0] = half * l0 * bar.Gx; weight[1] = half * l0 * bar.Gy; weight[2] = half * l0 * bar.Gz;
+            force[3] = fe * cx; force[4] = fe * cy; force[5] = fe * cz;
+            weight[3] = weight[4] = weight[5] = 0;
+        }
         if (withMode)
         {
             quadratic[0] = E / l3 * cphi * cphi + S / l0 * ff;
@@ -70,11 +74,14 @@ internal static class BarDesignTerms
             double dt = A * (E * dStrain / l0 - S * xk / l3); // ∂(A S / L0)/∂X_k
             double dHalf = half * A * xk / l0;
             int end = 3 * (5 + k), start = 3 * (2 + k);
-            double dfx = dt * cx + (k == 0 ? t : 0), dfy = dt * cy + (k == 1 ? t : 0), dfz = dt * cz + (k == 2 ? t : 0);
-            force[end] = dfx; force[end + 1] = dfy; force[end + 2] = dfz;
-            force[start] = -dfx; force[start + 1] = -dfy; force[start + 2] = -dfz;
-            weight[end] = dHalf * bar.Gx; weight[end + 1] = dHalf * bar.Gy; weight[end + 2] = dHalf * bar.Gz;
-            weight[start] = -weight[end]; weight[start + 1] = -weight[end + 1]; weight[start + 2] = -weight[end + 2];
+            if (forces)
+            {
+                double dfx = dt * cx + (k == 0 ? t : 0), dfy = dt * cy + (k == 1 ? t : 0), dfz = dt * cz + (k == 2 ? t : 0);
+                force[end] = dfx; force[end + 1] = dfy; force[end + 2] = dfz;
+                force[start] = -dfx; force[start + 1] = -dfy; force[start + 2] = -dfz;
+                weight[end] = dHalf * bar.Gx; weight[end + 1] = dHalf * bar.Gy; weight[end + 2] = dHalf * bar.Gz;
+                weight[start] = -weight[end]; weight[start + 1] = -weight[end + 1]; weight[start + 2] = -weight[end + 2];
+            }
             if (withMode)
             {
                 double dq = E * A * (2 * cphi * pkk / l3 - 3 * xk * cphi * cphi / (l3 * l2)) + dt * ff;

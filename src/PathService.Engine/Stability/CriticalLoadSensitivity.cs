@@ -19,17 +19,17 @@ public enum SensitivityMethod
 /// where added material raises λ_c most is the one with the largest value.</param>
 /// <param name="NodeCoordinates">dλ_c/dx, dy, dz of the initial coordinates, 3 per node (supported nodes too: moving a
 /// support moves the structure).</param>
-/// <param name="Breaking">Parameters (as "bar:id:area", "node:id:y", ...) whose change breaks the symmetry that the
-/// bifurcation rests on (the critical mode does work against their residual change): for them the bifurcation turns
-/// into a limit point or disappears, the derivative reported is that of the perfect structure's bifurcation, and the
-/// drop is governed by imperfection sensitivity instead.</param>
+/// <param name="Breaks">At a bifurcation, the parameters whose change breaks the symmetry the bifurcation rests on (the
+/// critical mode does work against their residual change): for them the bifurcation turns into a limit point or
+/// disappears, the derivative reported is that of the perfect structure's bifurcation, and the drop is governed by
+/// imperfection sensitivity instead. All false at a limit point.</param>
 public sealed record CriticalLoadSensitivity(
     bool Defined, string Note, SensitivityMethod Method, int Multiplicity,
     double[] BarArea, double[] BarModulus, double[] BarVolume, double[] NodeCoordinates,
-    double[] GroundSpringStiffness, double[] LinkSpringStiffness, IReadOnlyList<string> Breaking)
+    double[] GroundSpringStiffness, double[] LinkSpringStiffness, SymmetryBreaks Breaks)
 {
     public static CriticalLoadSensitivity Undefined(SensitivityMethod method, int multiplicity, string note) =>
-        new(false, note, method, multiplicity, [], [], [], [], [], [], []);
+        new(false, note, method, multiplicity, [], [], [], [], [], [], new SymmetryBreaks([], [], [], []));
 
     /// <summary>
     /// The derivative of λ_c along a design direction: Σ ∂λ_c/∂p · d_p over the parameters the direction gives (arrays
@@ -50,6 +50,16 @@ public sealed record CriticalLoadSensitivity(
         for (int i = 0; i < g.Length; i++) s += g[i] * d[i];
         return s;
     }
+}
+
+/// <summary>
+/// Which parameters break a bifurcation, in model order: per bar (its area and modulus change its force along the same
+/// chord, so both or neither), per node the axes along which moving it breaks it ("x", "xz", … or ""), per spring.
+/// </summary>
+public sealed record SymmetryBreaks(bool[] Bars, string[] NodeAxes, bool[] GroundSprings, bool[] LinkSprings)
+{
+    /// <summary>Number of breaking parameters (node axes counted one by one).</summary>
+    public int Count => Bars.Count(b => b) + NodeAxes.Sum(a => a.Length) + GroundSprings.Count(b => b) + LinkSprings.Count(b => b);
 }
 
 /// <summary>A change of the design, per parameter, in model order (3 per node for coordinates); null parts are zero.</summary>

@@ -21,7 +21,7 @@ namespace PathService.Engine.Stability;
 ///     dλ_c/dp = −(φᵀK_pφ − aᵀ∂r/∂p) / (aᵀF_ref).
 /// The fundamental path's tangent is taken without a component along φ, which holds where the bifurcation breaks a
 /// symmetry of the fundamental path (the usual case). A change whose residual change does work on φ (φᵀ∂r/∂p ≠ 0)
-/// breaks that symmetry: it is listed in <see cref="CriticalLoadSensitivity.Breaking"/>. For a point of multiplicity k
+/// breaks that symmetry: it is flagged in <see cref="CriticalLoadSensitivity.Breaks"/>. For a point of multiplicity k
 /// the derivative is that of the mean of the k coalescing eigenvalues, (1/k)Σφ_iᵀKφ_i with orthonormal modes: the
 /// individual λ are not differentiable there, the mean is.
 /// </summary>
@@ -41,7 +41,8 @@ internal static class SensitivityAnalysis
         int k = modesFree.Count;
         var method = kind == CriticalPointKind.LimitPoint ? SensitivityMethod.LimitPoint : SensitivityMethod.ZeroEigenvalue;
         if (k == 0) return CriticalLoadSensitivity.Undefined(method, 0, "no critical mode was given");
-        for (int b = 0; b < m.BarCount; b++)
+        // Without member laws no bar can yield or go slack: the checks are skipped.
+        for (int b = 0; b < (m.HasMemberLaws ? m.BarCount : 0); b++)
         {
             var state = BarKinematics.Evaluate(m, u, b, sys.Assembler.PlasticStrain[b]);
             if (state.Regime == BarRegime.Yielding || sys.Assembler.PlasticStrain[b] != 0)
@@ -87,7 +88,7 @@ internal static class SensitivityAnalysis
         // Per parameter: φᵀ∂r/∂p (breaking check) and the size of ∂r/∂p it is compared with.
         var modeWorkCoord = new double[3 * m.NodeCount];
         var sizeCoord = new double[3 * m.NodeCount];
-        var breaking = new List<string>();
+        var barBreaks = new bool[m.BarCount];
         Span<double> force = stackalloc double[3 * BarDesignTerms.ParameterCount];
         Span<double> weight = stackalloc double[3 * BarDesignTerms.ParameterCount];
         Span<double> quadratic = stackalloc double[BarDesignTerms.ParameterCount];
@@ -102,8 +103,8 @@ internal static class SensitivityAnalysis
         for (int b = 0; b < m.BarCount; b++)
         {
             int i = m.BarStart[b], j = m.BarEnd[b];
-            var state = BarKinematics.Evaluate(m, u, b, 0);
-            if (state.Regime == BarRegime.Slack) continue; // a slack tension- or compression-only bar: no first-order effect
+            // A slack tension- or compression-only bar has no first-order effect.
+            if (m.HasMemberLaws && BarKinematics.Evaluate(m, u, b, 0).Regime == BarRegime.Slack) continue;
             var bar = new BarDesignTerms.Bar(
                 m.Coordinates[3 * i], m.Coordinates[3 * i + 1], m.Coordinates[3 * i + 2], m.Coordinates[3 * j], m.Coordinates[3 * j + 1], m.Coordinates[3 * j + 2],
                 m.BarArea[b], m.BarModulus[b], m.BarInitialStress[b],
@@ -112,7 +113,7 @@ internal static class SensitivityAnalysis
             meanQuadratic.Clear();
             for (int q = 0; q < (bifurcation ? k : 1); q++)
             {
-                if (bifurcation) { Gather(phiFull[q], i, j, phiBar); BarDesignTerms.Derivatives(bar, phiBar, force, weight, quadratic); }
+                if (bifurcation) { Gather(phiFull[q], i, j, phiBar); BarDesignTerms.Derivatives(bar, phiBar, force, weight, quadratic, forces: q == 0); }
                 else BarDesignTerms.Derivatives(bar, [], force, weight, []);
                 if (bifurcation) for (int p = 0; p < BarDesignTerms.ParameterCount; p++) meanQuadratic[p] += quadratic[p] / k;
             }
@@ -127,15 +128,18 @@ internal static class SensitivityAnalysis
             }
             if (bifurcation)
             {
+                for (int p = 0; p < BarDesignTerms.ParameterCount; p++) size[p] = ResidualChangeSize(force, weight, p);
+                bool areaBreaks = false, modulusBreaks = false;
                 for (int q = 0; q < k; q++)
                 {
                     Contract(force, weight, phiFull[q], i, j, work);
                     for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
                     {
-                        size[p] = ResidualChangeSize(force, weight, p);
                         if (p < 2)
                         {
-                            if (Math.Abs(work[p]) > BreakingRatio * size[p] && q == 0) breaking.Add($"bar:{m.BarIds[b]}:{(p == 0 ? "area" : "modulus")}");
+                            // Any of the coalescing modes doing work on the change breaks the (multiple) bifurcation.
+                            bool breaks = Math.Abs(work[p]) > BreakingRatio * size[p] * phiMax;
+                            if (p == 0) areaBreaks |= breaks; else modulusBreaks |= breaks;
                         }
                         else
                         {
@@ -145,21 +149,23 @@ internal static class SensitivityAnalysis
                         }
                     }
                 }
+                barBreaks[b] = areaBreaks || modulusBreaks;
             }
             volume[b] = area[b] / m.BarLength[b];
         }
 
         var ground = new double[m.GroundSpringStiffness.Length];
+        var groundBreaks = new bool[ground.Length];
         for (int s = 0; s < ground.Length; s++)
         {
             int dof = m.GroundSpringDof[s];
             ground[s] = bifurcation
                 ? -(phiFull.Sum(p => p[dof] * p[dof]) / k - wFull[dof] * u[dof]) / denominator
                 : wFull[dof] * u[dof] / denominator;
-            if (bifurcation && Math.Abs(phiFull[0][dof] * u[dof]) > BreakingRatio * Math.Abs(u[dof]) * phiMax)
-                breaking.Add($"ground_spring:{m.GroundSpringIds[s]}:stiffness");
+            groundBreaks[s] = bifurcation && Math.Abs(phiFull[0][dof] * u[dof]) > BreakingRatio * Math.Abs(u[dof]) * phiMax;
         }
         var link = new double[m.LinkSpringStiffness.Length];
+        var linkBreaks = new bool[link.Length];
         for (int s = 0; s < link.Length; s++)
         {
             int a = m.LinkSpringStartDof[s], e = m.LinkSpringEndDof[s];
@@ -167,17 +173,24 @@ internal static class SensitivityAnalysis
             link[s] = bifurcation
                 ? -(phiFull.Sum(p => (p[e] - p[a]) * (p[e] - p[a])) / k - (wFull[e] - wFull[a]) * stretch) / denominator
                 : (wFull[e] - wFull[a]) * stretch / denominator;
-            if (bifurcation && Math.Abs((phiFull[0][e] - phiFull[0][a]) * stretch) > BreakingRatio * Math.Abs(stretch) * phiMax)
-                breaking.Add($"link_spring:{m.LinkSpringIds[s]}:stiffness");
+            linkBreaks[s] = bifurcation && Math.Abs((phiFull[0][e] - phiFull[0][a]) * stretch) > BreakingRatio * Math.Abs(stretch) * phiMax;
         }
-        if (bifurcation)
-            for (int dof = 0; dof < coords.Length; dof++)
-                if (modeWorkCoord[dof] > BreakingRatio * sizeCoord[dof] * phiMax && sizeCoord[dof] > 0)
-                    breaking.Add($"node:{m.NodeIds[dof / 3]}:{"xyz"[dof % 3]}");
+        var nodeAxes = new string[m.NodeCount];
+        for (int n = 0; n < m.NodeCount; n++)
+        {
+            string axes = "";
+            for (int c = 0; c < 3 && bifurcation; c++)
+            {
+                int dof = 3 * n + c;
+                if (modeWorkCoord[dof] > BreakingRatio * sizeCoord[dof] * phiMax && sizeCoord[dof] > 0) axes += "xyz"[c];
+            }
+            nodeAxes[n] = axes;
+        }
         string note = bifurcation
             ? k > 1 ? $"multiple bifurcation ({k} modes): the individual critical loads are not differentiable; these are the derivatives of their mean" : "bifurcation: derivative of the zero crossing of the critical eigenvalue along the fundamental path"
             : "limit point";
-        return new CriticalLoadSensitivity(true, note, method, k, area, modulus, volume, coords, ground, link, breaking);
+        return new CriticalLoadSensitivity(true, note, method, k, area, modulus, volume, coords, ground, link,
+            new SymmetryBreaks(barBreaks, nodeAxes, groundBreaks, linkBreaks));
     }
 
     /// <summary>wᵀ∂r/∂p for the bar's eight parameters: the internal force enters r with +, the self-weight with −.</summary>
