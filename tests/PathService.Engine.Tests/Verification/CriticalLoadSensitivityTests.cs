@@ -244,6 +244,47 @@ public class CriticalLoadSensitivityTests
         Assert.Contains(findings, f => f.FieldPath == "controls.design_direction.nodes[0]" && f.Code == FindingCode.NonFiniteNumber && f.Message.Contains("not finite"));
     }
 
+    /// <summary>
+    /// A bench roof (double-layer grid, m = 8; its first critical point is a snap-through limit point of the symmetric
+    /// structure). Central differences are taken along changes that keep its symmetry, as a designer's parameters do:
+    /// every chord's area up by the same amount (RoofParameters.ChordArea), and the camber raised (RiseRatio, which
+    /// moves every node). The directional derivative from the sensitivities must agree with the re-traced, re-located
+    /// λ_cr to 1e-5.
+    /// </summary>
+    [Fact]
+    public void First_critical_point_of_a_bench_roof_matches_central_differences_along_symmetric_design_changes()
+    {
+        var baseline = new PathService.Bench.Models.RoofParameters { M = 8 };
+        var controls = new SolverControls
+        {
+            InitialLoadIncrement = 2, MaxPoints = 120, ResidualTolerance = 1e-12, CriticalPointTolerance = 1e-11,
+            Monitored = [new DofReference(PathService.Bench.Models.SpaceTrussRoof.CentreNodeId(8), Axis.Z)],
+        };
+        double First(PathService.Bench.Models.RoofParameters p) => FirstCritical(PathService.Bench.Models.SpaceTrussRoof.Create(p), controls).Cp.LoadFactor;
+        var (cp, model) = FirstCritical(PathService.Bench.Models.SpaceTrussRoof.Create(baseline), controls with { DesignSensitivities = true });
+        var s = Sensitivity(model, cp, [.. cp.AdditionalModes.Select(a => { var f = new double[model.Dofs.FreeCount]; model.Dofs.Gather(a, f); return f; })]);
+        Assert.True(s.Defined, s.Note);
+
+        // Chord areas: a bar is a chord when its area is the chord area (diagonals have their own).
+        var chordDirection = model.Definition.Bars.Select(b => b.Area == baseline.ChordArea ? 1.0 : 0.0).ToArray();
+        double analytic = s.Directional(new DesignDirection(BarArea: chordDirection));
+        double h = 1e-4 * baseline.ChordArea;
+        double fd = (First(baseline with { ChordArea = baseline.ChordArea + h }) - First(baseline with { ChordArea = baseline.ChordArea - h })) / (2 * h);
+        AssertRelative(fd, analytic, 1e-5, "dλ/d(chord area) along the symmetric change");
+
+        // Camber: the generator moves every node's z in proportion to the rise; its derivative is that z field.
+        double dr = 1e-4 * baseline.RiseRatio;
+        var up = PathService.Bench.Models.SpaceTrussRoof.Create(baseline with { RiseRatio = baseline.RiseRatio + dr });
+        var down = PathService.Bench.Models.SpaceTrussRoof.Create(baseline with { RiseRatio = baseline.RiseRatio - dr });
+        var dz = new double[3 * model.NodeCount];
+        for (int n = 0; n < model.NodeCount; n++)
+            for (int c = 0; c < 3; c++)
+                dz[3 * n + c] = (c == 0 ? up.Nodes[n].X - down.Nodes[n].X : c == 1 ? up.Nodes[n].Y - down.Nodes[n].Y : up.Nodes[n].Z - down.Nodes[n].Z) / (2 * dr);
+        double analyticRise = s.Directional(new DesignDirection(NodeCoordinates: dz));
+        double fdRise = (First(baseline with { RiseRatio = baseline.RiseRatio + dr }) - First(baseline with { RiseRatio = baseline.RiseRatio - dr })) / (2 * dr);
+        AssertRelative(fdRise, analyticRise, 1e-5, "dλ/d(rise ratio) along the camber");
+    }
+
     private static void AssertRelative(double expected, double actual, double tolerance, string what)
     {
         double error = Math.Abs(actual - expected) / Math.Abs(expected);
