@@ -83,7 +83,11 @@ public static class IfcExport
                 else stiffness[d] = Typed("IFCBOOLEAN", ".F.");
             }
             if (any)
-                condition = Ref(w.Add("IFCBOUNDARYNODECONDITION", Str(node.Id), stiffness[0], stiffness[1], stiffness[2], Unset, Unset, Unset));
+                {
+                // Rotations written free (IfcBoolean FALSE): the joints of a pin-jointed truss hold no moment.
+                string free = Typed("IFCBOOLEAN", ".F.");
+                condition = Ref(w.Add("IFCBOUNDARYNODECONDITION", Str(node.Id), stiffness[0], stiffness[1], stiffness[2], free, free, free));
+            }
             vertexOf[node.Id] = vp;
             connectionOf[node.Id] = w.Add("IFCSTRUCTURALPOINTCONNECTION", Gid("node", node.Id), Unset, Str(node.Id), Unset, Unset,
                 Ref(placement), Ref(shape), condition, Unset);
