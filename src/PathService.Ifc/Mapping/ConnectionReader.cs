@@ -60,7 +60,9 @@ internal sealed class ConnectionReader(EntityAccess a, PlacementResolver placeme
             return;
         }
         var dirs = new[] { Direction.X, Direction.Y, Direction.Z };
-        string[] names = ["TranslationalStiffnessX", "TranslationalStiffnessY", "TranslationalStiffnessZ"];
+        string[] names = a.File.Schema == "IFC2X3"
+            ? ["LinearStiffnessX", "LinearStiffnessY", "LinearStiffnessZ"]
+            : ["TranslationalStiffnessX", "TranslationalStiffnessY", "TranslationalStiffnessZ"];
         for (int i = 0; i < 3; i++)
         {
             var v = a.Raw(cond, 2 + i, names[i]);
@@ -79,10 +81,15 @@ internal sealed class ConnectionReader(EntityAccess a, PlacementResolver placeme
                     if (k < 0)
                         findings.Error("NEGATIVE_STIFFNESS", field, j.Id, $"{names[i]} of #{cond.Number} is negative ({k}); it is not applied");
                     else if (k > 0)
+                    {
+                        if (a.File.Schema == "IFC2X3")
+                            findings.Warning("IFC2X3_STIFFNESS_AS_SPRING", field, j.Id,
+                                $"IFC2X3 states {names[i]} of #{cond.Number} as a number only ({k}); it is read as a spring, never as a fixed support");
                         model.GroundSprings.Add(new GroundSpring
                         {
                             Id = $"{j.Id}-k{"xyz"[i]}", Node = j.Id, Direction = dirs[i], Stiffness = k * units.Stiffness,
                         });
+                    }
                     break;
             }
         }

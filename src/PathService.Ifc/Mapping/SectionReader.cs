@@ -112,13 +112,20 @@ internal sealed class SectionReader(EntityAccess a, AnalysisView view, UnitScale
         return result;
     }
 
+    private Dictionary<int, double>? _statedAreas;
+
+    /// <summary>Stated areas by profile instance, indexed on first use (IfcProfileProperties.ProfileDefinition).</summary>
     private double? StatedArea(StepEntity profile)
     {
         if (_ifc2x3) return null;
-        foreach (var p in a.File.OfType("IFCPROFILEPROPERTIES"))
-            if (a.Ref(p, 4, "ProfileDefinition").Number == profile.Number && Property(p, 3, "CrossSectionArea") is { } v)
-                return v;
-        return null;
+        if (_statedAreas is null)
+        {
+            _statedAreas = new Dictionary<int, double>();
+            foreach (var p in a.File.OfType("IFCPROFILEPROPERTIES"))
+                if (Property(p, 3, "CrossSectionArea") is { } v)
+                    _statedAreas.TryAdd(a.Ref(p, 4, "ProfileDefinition").Number, v);
+        }
+        return _statedAreas.TryGetValue(profile.Number, out var area) ? area : null;
     }
 
     /// <summary>The nominal value of a named IfcPropertySingleValue in an extended-properties set.</summary>
