@@ -196,3 +196,54 @@ public class BadFileTests
         Assert.Contains("'reference'", group.Message);
     }
 }
+
+/// <summary>Damaged copies of a valid file: every one is either read or refused with a StepFormatException, never a crash.</summary>
+public class DamagedFileTests
+{
+    private static readonly string Canopy = File.ReadAllText(IfcText.FilePath("canopy-mm-kn.ifc"));
+    private static readonly IfcImportOptions Options = new() { ReferenceLoadGroup = "snow" };
+
+    [Fact]
+    public void Every_truncation_of_the_canopy_file_is_refused_as_truncated_or_malformed()
+    {
+        for (int cut = 0; cut < Canopy.Length - 1; cut += 7)
+        {
+            var e = Assert.Throws<StepFormatException>(() => IfcText.Import(Canopy[..cut], Options));
+            Assert.False(string.IsNullOrEmpty(e.Code));
+        }
+    }
+
+    [Fact]
+    public void Random_byte_damage_is_read_or_refused_with_a_specific_error()
+    {
+        var random = new Random(1716);
+        int refused = 0;
+        for (int trial = 0; trial < 400; trial++)
+        {
+            var chars = Canopy.ToCharArray();
+            for (int k = 0; k < 3; k++) chars[random.Next(chars.Length)] = "#$*'(),.;=0123456789ABCDEFX\\"[random.Next(28)];
+            try
+            {
+                IfcText.Import(new string(chars), Options);
+            }
+            catch (StepFormatException e)
+            {
+                Assert.Matches("^[A-Z_]+$", e.Code);
+                refused++;
+            }
+            catch (ArgumentException)
+            {
+                refused++; // e.g. the load group's name was damaged: an option no longer matches
+            }
+        }
+        Assert.True(refused > 100, $"only {refused} of 400 damaged files were refused");
+    }
+
+    [Fact]
+    public void Deeply_nested_lists_are_refused_without_exhausting_the_stack()
+    {
+        var e = Assert.Throws<StepFormatException>(() => IfcText.Import(IfcText.Wrap("#1=IFCX(" + new string('(', 200_000) + ");")));
+        Assert.Equal(("SYNTAX", 1), (e.Code, e.Entity));
+        Assert.Contains("nested deeper than 32", e.Message);
+    }
+}

@@ -68,11 +68,13 @@ public class RoundTripTests
         m.Supports[0].PrescribedDisplacement = 0.01;
         m.Bars[2].InitialStress = 100;
         m.GroundSprings[0].Id = "spring one";
+        m.Nodes.Add(new Node { Id = "lonely", X = 9 });
         var findings = IfcExport.WriteToString(m, l).Findings;
         Assert.Contains(findings, f => f.Code == "LINK_SPRING_NOT_WRITTEN" && f.Field == "model.link_springs[0]");
         Assert.Contains(findings, f => f.Code == "PRESCRIBED_DISPLACEMENT_NOT_WRITTEN" && f.Field == "model.supports[0].prescribed_displacement");
         Assert.Contains(findings, f => f.Code == "BAR_FIELD_NOT_WRITTEN" && f.Field == "model.bars[2].initial_stress" && f.ItemId == "r1m1");
         Assert.Contains(findings, f => f.Code == "SPRING_ID_NOT_KEPT" && f.Message.Contains("'M1-ky'"));
+        Assert.Contains(findings, f => f.Code == "NODE_WITHOUT_BAR" && f.Field == "model.nodes[8]" && f.ItemId == "lonely");
     }
 
     [Fact]

@@ -10,7 +10,7 @@ namespace PathService.Ifc.Mapping;
 /// runs through intermediate connections is split there. Curved edges, eccentric or conditioned member ends and rigid
 /// joints are mapped as straight pin-ended bars between the connections and reported.
 /// </summary>
-internal sealed class MemberReader(EntityAccess a, AnalysisView view, PlacementResolver placements, ConnectionReader connections,
+internal sealed class MemberReader(EntityAccess a, AnalysisView view, PlacementResolver placements,
     SectionReader sections, FindingSink findings)
 {
     public void Read(StepEntity member, string id, IReadOnlyDictionary<int, ConnectionReader.Joint> joints, StructureModel model)

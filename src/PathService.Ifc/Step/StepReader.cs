@@ -24,6 +24,10 @@ public static class StepReader
     {
         private int? _entity;
         private int? _attribute;
+        private int _depth;
+
+        /// <summary>Deepest nesting of lists and typed parameters accepted (IFC needs 3); keeps a hostile file off the stack.</summary>
+        public const int MaxNesting = 32;
 
         private StepFormatException Error(string code, string message) => new(code, message, _entity, _attribute, s.Line);
 
@@ -207,6 +211,20 @@ public static class StepReader
         }
 
         private StepValue ReadParameter()
+        {
+            if (++_depth > MaxNesting)
+                throw Error("SYNTAX", $"lists or typed parameters are nested deeper than {MaxNesting}");
+            try
+            {
+                return ReadParameterBody();
+            }
+            finally
+            {
+                _depth--;
+            }
+        }
+
+        private StepValue ReadParameterBody()
         {
             Space();
             int c = s.Peek();

@@ -223,6 +223,10 @@ public static class IfcExport
             if (model.Supports.Any(p => p.Node == s.Node && p.Direction == s.Direction))
                 findings.Warning("SPRING_UNDER_SUPPORT", $"model.ground_springs[{i}]", s.Id, "the direction is also supported; the support is written");
         }
+        var barEnds = model.Bars.SelectMany(b => new[] { b.StartNode, b.EndNode }).ToHashSet();
+        for (int i = 0; i < model.Nodes.Count; i++)
+            if (!barEnds.Contains(model.Nodes[i].Id))
+                findings.Warning("NODE_WITHOUT_BAR", $"model.nodes[{i}]", model.Nodes[i].Id, "the node joins no bar; it is written but the import leaves such connections out");
         for (int i = 0; i < model.Bars.Count; i++)
         {
             var b = model.Bars[i];
