@@ -14,7 +14,7 @@ internal sealed class StepScanner
     public StepScanner(Stream stream)
     {
         // ISO 10303-21:2016 allows UTF-8 directly in strings; 7-bit files read the same.
-        _reader = new StreamReader(stream, new UTF8Encoding(false, false), false, 1 << 16);
+        _reader = new StreamReader(stream, new UTF8Encoding(false, false), detectEncodingFromByteOrderMarks: true, 1 << 16);
     }
 
     public int Line { get; private set; } = 1;
