@@ -120,3 +120,35 @@ public class Ifc2x3Tests
         Assert.Equal("IFC2X3", r.Schema);
     }
 }
+
+/// <summary>
+/// The analysis model's coordinate system (IfcStructuralAnalysisModel.SharedPlacement, ISO 16739-1:2018
+/// IfcStructuralItem: the items' placement; conditions and GLOBAL_COORDS actions refer to it).
+/// </summary>
+public class SharedPlacementTests
+{
+    [Fact]
+    public void Coordinates_conditions_and_loads_are_given_in_the_turned_shared_placement()
+    {
+        // Shared placement at (10, 0, 0), turned 90° about z (its x is the world's y).
+        string data =
+            "#1=IFCCARTESIANPOINT((10.,0.,0.));\n#2=IFCDIRECTION((0.,0.,1.));\n#3=IFCDIRECTION((0.,1.,0.));\n#4=IFCAXIS2PLACEMENT3D(#1,#2,#3);\n" +
+            "#5=IFCLOCALPLACEMENT($,#4);\n" +
+            "#6=IFCCARTESIANPOINT((0.,0.,0.));\n#7=IFCVERTEXPOINT(#6);\n#8=IFCTOPOLOGYREPRESENTATION($,'Reference','Vertex',(#7));\n#9=IFCPRODUCTDEFINITIONSHAPE($,$,(#8));\n" +
+            "#10=IFCCARTESIANPOINT((3.,0.,0.));\n#11=IFCVERTEXPOINT(#10);\n#12=IFCTOPOLOGYREPRESENTATION($,'Reference','Vertex',(#11));\n#13=IFCPRODUCTDEFINITIONSHAPE($,$,(#12));\n" +
+            "#14=IFCBOUNDARYNODECONDITION('x',IFCBOOLEAN(.T.),$,$,$,$,$);\n" +
+            "#20=IFCSTRUCTURALPOINTCONNECTION('a',$,'A',$,$,#5,#9,#14,$);\n#21=IFCSTRUCTURALPOINTCONNECTION('b',$,'B',$,$,#5,#13,$,$);\n" +
+            "#22=IFCSTRUCTURALCURVEMEMBER('m',$,'M',$,$,#5,$,.PIN_JOINED_MEMBER.,#2);\n" +
+            "#23=IFCRELCONNECTSSTRUCTURALMEMBER('r',$,$,$,#22,#20,$,$,$,$);\n#24=IFCRELCONNECTSSTRUCTURALMEMBER('s',$,$,$,#22,#21,$,$,$,$);\n" +
+            "#30=IFCSTRUCTURALLOADSINGLEFORCE('g',2.,0.,0.,$,$,$);\n#31=IFCSTRUCTURALPOINTACTION('p',$,'g',$,$,#5,$,#30,.GLOBAL_COORDS.,$);\n" +
+            "#32=IFCRELCONNECTSSTRUCTURALACTIVITY('q',$,$,$,#21,#31);\n#33=IFCSTRUCTURALLOADGROUP('lg',$,'push',$,$,.LOAD_GROUP.,$,$,$,$);\n" +
+            "#34=IFCRELASSIGNSTOGROUP('t',$,$,$,(#31),$,#33);\n" +
+            "#40=IFCSTRUCTURALANALYSISMODEL('am',$,'turned',$,$,.LOADING_3D.,$,(#33),$,#5);\n#41=IFCRELASSIGNSTOGROUP('u',$,$,$,(#20,#21,#22),$,#40);";
+        var r = IfcText.Import(IfcText.Wrap(data));
+        var b = r.Model.Nodes.Single(n => n.Id == "B");
+        Assert.Equal((3.0, 0.0, 0.0), (b.X, b.Y, b.Z));
+        Assert.Equal(("A", Direction.X), (r.Model.Supports[0].Node, r.Model.Supports[0].Direction));
+        Assert.Equal(0.002, r.LoadCase.Reference[0].Fx, 1e-18); // 2 N (no units assigned) in kN, along the model's x
+        Assert.DoesNotContain(r.Findings, f => f.Code == "CONDITION_AXES_ASSUMED");
+    }
+}

@@ -15,6 +15,9 @@ internal sealed class ConnectionReader(EntityAccess a, PlacementResolver placeme
 {
     public sealed record Joint(StepEntity Entity, string Id, Vec3 Position, Placement Frame);
 
+    /// <summary>The analysis model's coordinate system: directions of conditions and global loads refer to it.</summary>
+    public Placement Model { get; } = shared ?? Placement.World;
+
     public Joint? Read(StepEntity c, string id)
     {
         var frame = a.OptionalRef(c, 6, "ObjectPlacement") is { } p ? placements.ObjectPlacement(p) : shared ?? Placement.World;
@@ -25,7 +28,9 @@ internal sealed class ConnectionReader(EntityAccess a, PlacementResolver placeme
                 $"connection #{c.Number} has neither an ObjectPlacement nor a vertex representation, so its position is unknown");
             return null;
         }
-        return new Joint(c, id, vertex is { } v ? frame.Apply(v) : frame.Origin, frame);
+        // Positions are given in the analysis model's coordinate system (SharedPlacement, else the file's world).
+        var world = vertex is { } v ? frame.Apply(v) : frame.Origin;
+        return new Joint(c, id, Model.ToLocal(world), frame);
     }
 
     /// <summary>The local coordinates of the first IfcVertexPoint in the product's topology representations.</summary>
@@ -52,8 +57,13 @@ internal sealed class ConnectionReader(EntityAccess a, PlacementResolver placeme
             findings.Error("UNSUPPORTED_CONDITION", field, j.Id, $"{cond.Type} #{cond.Number} on connection #{c.Number} is not a node condition; it is ignored");
             return;
         }
-        if (a.File.Schema != "IFC2X3" && a.OptionalRef(c, 9, "ConditionCoordinateSystem", "IFCAXIS2PLACEMENT3D") is { } axes
-            && !placements.Axis2(axes).IsAxisAligned())
+        var axes = a.File.Schema != "IFC2X3" ? a.OptionalRef(c, 9, "ConditionCoordinateSystem", "IFCAXIS2PLACEMENT3D") : null;
+        if (axes is null && !j.Frame.SameAxes(Model))
+            findings.Warning("CONDITION_AXES_ASSUMED", FindingSink.Field(c.Number), j.Id,
+                $"connection #{c.Number} is placed in axes turned from the analysis model's; its boundary condition is read in the model's axes");
+        // ConditionCoordinateSystem is given relative to the connection's ObjectPlacement (ISO 16739-1:2018,
+        // IfcStructuralPointConnection); only axes parallel to the model's can be expressed as supports and springs.
+        if (axes is not null && !placements.Axis2(axes).Then(j.Frame).SameAxes(Model))
         {
             findings.Error("ROTATED_CONDITION_AXES", FindingSink.Field(c.Number), j.Id,
                 $"the boundary condition of connection #{c.Number} acts in rotated axes (ConditionCoordinateSystem #{axes.Number}); only global directions are supported, so it is not applied");

@@ -78,10 +78,10 @@ public static class IfcImport
         var nodeJoints = joints.Where(kv => reached.Contains(kv.Key)).ToDictionary(kv => kv.Key, kv => kv.Value);
 
         var sections = new SectionReader(a, view, units, findings);
-        var members = new MemberReader(a, view, placements, sections, findings);
+        var members = new MemberReader(a, view, placements, connections, sections, findings);
         foreach (var m in memberEntities) members.Read(m, IdOf(a, m, "M", memberNames, findings), nodeJoints, model);
 
-        var loads = new LoadReader(a, view, placements, units, findings);
+        var loads = new LoadReader(a, view, placements, units, findings, connections.Model);
         var groups = LoadGroupsOf(a, view, analysisModel);
         var loadCase = new LoadCase();
         var reference = ChooseGroup(a, groups, options.ReferenceLoadGroup, loads, "reference", findings);

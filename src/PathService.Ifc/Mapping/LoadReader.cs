@@ -6,10 +6,10 @@ namespace PathService.Ifc.Mapping;
 /// <summary>
 /// Nodal loads from an IfcStructuralLoadGroup: its members (IfcRelAssignsToGroup) that are IfcStructuralPointAction,
 /// each acting on a point connection (IfcRelConnectsStructuralActivity) with an IfcStructuralLoadSingleForce
-/// (ForceX/Y/Z; moments are reported and ignored). LOCAL_COORDS forces are turned into global axes by the placement of
-/// the action, or of the connection when the action has none.
+/// (ForceX/Y/Z; moments are reported and ignored). GLOBAL_COORDS forces are in the analysis model's axes; LOCAL_COORDS
+/// forces are turned by the placement of the action, or of the connection when the action has none, into them.
 /// </summary>
-internal sealed class LoadReader(EntityAccess a, AnalysisView view, PlacementResolver placements, UnitScales units, FindingSink findings)
+internal sealed class LoadReader(EntityAccess a, AnalysisView view, PlacementResolver placements, UnitScales units, FindingSink findings, Placement model)
 {
     public static readonly string[] GroupTypes = ["IFCSTRUCTURALLOADGROUP", "IFCSTRUCTURALLOADCASE"];
 
@@ -50,7 +50,7 @@ internal sealed class LoadReader(EntityAccess a, AnalysisView view, PlacementRes
             if (a.OptionalEnum(o, 9, "GlobalOrLocal") == "LOCAL_COORDS")
             {
                 var frame = a.OptionalRef(o, 6, "ObjectPlacement") is { } p ? placements.ObjectPlacement(p) : joint.Frame;
-                f = frame.Rotate(f);
+                f = model.RotateToLocal(frame.Rotate(f));
             }
             f *= units.Force;
             loads.Add(new NodalLoad { Node = joint.Id, Fx = f.X, Fy = f.Y, Fz = f.Z });

@@ -10,7 +10,7 @@ namespace PathService.Ifc.Mapping;
 /// runs through intermediate connections is split there. Curved edges, eccentric or conditioned member ends and rigid
 /// joints are mapped as straight pin-ended bars between the connections and reported.
 /// </summary>
-internal sealed class MemberReader(EntityAccess a, AnalysisView view, PlacementResolver placements,
+internal sealed class MemberReader(EntityAccess a, AnalysisView view, PlacementResolver placements, ConnectionReader connections,
     SectionReader sections, FindingSink findings)
 {
     public void Read(StepEntity member, string id, IReadOnlyDictionary<int, ConnectionReader.Joint> joints, StructureModel model)
@@ -115,8 +115,8 @@ internal sealed class MemberReader(EntityAccess a, AnalysisView view, PlacementR
                     var e = Vertex(a.Ref(edge, 2, "EdgeEnd", "IFCVERTEXPOINT"));
                     bool curved = edge.Type == "IFCEDGECURVE" && IsCurved(a.Ref(edge, 3, "EdgeGeometry"));
                     if (item.Type == "IFCORIENTEDEDGE" && a.OptionalEnum(item, 4, "Orientation") == "F") (s, e) = (e, s);
-                    var gs = frame.Apply(s);
-                    var ge = frame.Apply(e);
+                    var gs = connections.Model.ToLocal(frame.Apply(s));
+                    var ge = connections.Model.ToLocal(frame.Apply(e));
                     if ((ge - gs).Length > 0) return (gs, ge, curved);
                 }
             }

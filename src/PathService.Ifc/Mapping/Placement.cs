@@ -18,8 +18,19 @@ internal readonly record struct Placement(Vec3 Origin, Vec3 X, Vec3 Y, Vec3 Z)
     public Placement Then(Placement parent) =>
         new(parent.Apply(Origin), parent.Rotate(X), parent.Rotate(Y), parent.Rotate(Z));
 
-    public bool IsAxisAligned(double tol = 1e-9) =>
-        (X - World.X).Length < tol && (Y - World.Y).Length < tol && (Z - World.Z).Length < tol;
+    /// <summary>Coordinates of a world point in this placement's axes (the inverse of <see cref="Apply"/>).</summary>
+    public Vec3 ToLocal(Vec3 world)
+    {
+        var d = world - Origin;
+        return new Vec3(d.Dot(X), d.Dot(Y), d.Dot(Z));
+    }
+
+    /// <summary>Components of a world vector in this placement's axes.</summary>
+    public Vec3 RotateToLocal(Vec3 world) => new(world.Dot(X), world.Dot(Y), world.Dot(Z));
+
+    /// <summary>Whether the axes of the two placements coincide (origins may differ).</summary>
+    public bool SameAxes(Placement other, double tol = 1e-9) =>
+        (X - other.X).Length < tol && (Y - other.Y).Length < tol && (Z - other.Z).Length < tol;
 }
 
 internal readonly record struct Vec3(double X, double Y, double Z)
