@@ -58,7 +58,7 @@ public class HandWrittenFileTests
         Assert.Equal(("N2", "N6"), (bars["B5.1"].StartNode, bars["B5.1"].EndNode));
         Assert.Equal(("N6", "N1"), (bars["B5.2"].StartNode, bars["B5.2"].EndNode));
         Assert.False(bars.ContainsKey("B5"));
-        Assert.Equal(BarBehaviour.TensionOnly, bars["B5.2"].Behaviour);
+        Assert.Equal(BarBehavior.TensionOnly, bars["B5.2"].Behavior);
         Assert.Contains(r.Findings, f => f.Code == "MEMBER_SPLIT" && f.Field == "ifc #145" && f.ItemId == "B5");
         Assert.Equal(7, r.Model.Bars.Count);
     }

@@ -28,8 +28,8 @@ internal static class ModelComparison
                 Assert.True(err < 1e-14, $"node {a.Nodes[i].Id}.{c}: {x} against {y}");
             }
         }
-        Assert.Equal(a.Bars.Select(x => (x.Id, x.StartNode, x.EndNode, x.Behaviour == BarBehaviour.TensionAndCompression ? BarBehaviour.Unspecified : x.Behaviour)),
-            b.Bars.Select(x => (x.Id, x.StartNode, x.EndNode, x.Behaviour)));
+        Assert.Equal(a.Bars.Select(x => (x.Id, x.StartNode, x.EndNode, x.Behavior == BarBehavior.TensionAndCompression ? BarBehavior.Unspecified : x.Behavior)),
+            b.Bars.Select(x => (x.Id, x.StartNode, x.EndNode, x.Behavior)));
         for (int i = 0; i < a.Bars.Count; i++)
         {
             Num(a.Bars[i].ElasticModulus, b.Bars[i].ElasticModulus, $"bar {a.Bars[i].Id} E");

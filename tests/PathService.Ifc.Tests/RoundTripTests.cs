@@ -35,7 +35,7 @@ public class RoundTripTests
         var r = Back(m, l);
         Assert.Equal(0, ModelComparison.AssertSame(m, l, r.Model, r.LoadCase));
         Assert.Empty(r.Findings);
-        Assert.Equal(8, r.Model.Bars.Count(b => b.Behaviour == BarBehaviour.TensionOnly));
+        Assert.Equal(8, r.Model.Bars.Count(b => b.Behavior == BarBehavior.TensionOnly));
     }
 
     [Fact]

@@ -60,7 +60,7 @@ internal static class TestStructures
             m.Bars.Add(new Bar { Id = $"d{i}b", StartNode = $"b{j}", EndNode = $"r{i}", ElasticModulus = 2.05e8, Area = 9.5e-4 });
             m.Bars.Add(new Bar { Id = $"h{i}", StartNode = $"r{i}", EndNode = $"r{j}", ElasticModulus = 2.05e8, Area = 6.1e-4 });
             m.Bars.Add(new Bar { Id = $"s{i}", StartNode = $"r{i}", EndNode = "apex", ElasticModulus = 2.05e8, Area = 7.2e-4 });
-            m.Bars.Add(new Bar { Id = $"t{i}", StartNode = $"b{i}", EndNode = $"b{j}", ElasticModulus = 1.6e8, Area = 3.1e-4, Behaviour = BarBehaviour.TensionOnly });
+            m.Bars.Add(new Bar { Id = $"t{i}", StartNode = $"b{i}", EndNode = $"b{j}", ElasticModulus = 1.6e8, Area = 3.1e-4, Behavior = BarBehavior.TensionOnly });
             m.Supports.Add(new Support { Node = $"b{i}", Direction = Direction.Z });
         }
         foreach (var d in new[] { Direction.X, Direction.Y }) m.Supports.Add(new Support { Node = "b0", Direction = d });

@@ -74,27 +74,27 @@ internal sealed class MemberReader(EntityAccess a, AnalysisView view, PlacementR
             }
             model.Bars.Add(new Bar
             {
-                Id = barId, StartNode = ordered[i].Id, EndNode = ordered[i + 1].Id, ElasticModulus = e, Area = area, Behaviour = behaviour,
+                Id = barId, StartNode = ordered[i].Id, EndNode = ordered[i + 1].Id, ElasticModulus = e, Area = area, Behavior = behaviour,
             });
         }
     }
 
-    private BarBehaviour Behaviour(StepEntity member, string id)
+    private BarBehavior Behaviour(StepEntity member, string id)
     {
         string? type = a.OptionalEnum(member, 8, "PredefinedType");
         switch (type)
         {
             case "TENSION_MEMBER":
             case "CABLE":
-                return BarBehaviour.TensionOnly;
+                return BarBehavior.TensionOnly;
             case "COMPRESSION_MEMBER":
-                return BarBehaviour.CompressionOnly;
+                return BarBehavior.CompressionOnly;
             case "RIGID_JOINED_MEMBER":
                 findings.Warning("RIGID_JOINTS_IGNORED", FindingSink.Field(member.Number), id,
                     $"member #{member.Number} is rigidly joined; it is mapped as a pin-ended bar (axial force only)");
-                return BarBehaviour.Unspecified;
+                return BarBehavior.Unspecified;
             default:
-                return BarBehaviour.Unspecified;
+                return BarBehavior.Unspecified;
         }
     }
 

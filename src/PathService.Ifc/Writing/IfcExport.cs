@@ -108,10 +108,10 @@ public static class IfcExport
             int shape = w.Add("IFCPRODUCTDEFINITIONSHAPE", Unset, Unset, Refs([rep]));
             var (ax, ay, az) = Perpendicular(nodeById[bar.StartNode], nodeById[bar.EndNode]);
             int axis = w.Add("IFCDIRECTION", List([Real(ax), Real(ay), Real(az)]));
-            string type = bar.Behaviour switch
+            string type = bar.Behavior switch
             {
-                BarBehaviour.TensionOnly => "TENSION_MEMBER",
-                BarBehaviour.CompressionOnly => "COMPRESSION_MEMBER",
+                BarBehavior.TensionOnly => "TENSION_MEMBER",
+                BarBehavior.CompressionOnly => "COMPRESSION_MEMBER",
                 _ => "PIN_JOINED_MEMBER",
             };
             int member = w.Add("IFCSTRUCTURALCURVEMEMBER", Gid("bar", bar.Id), Unset, Str(bar.Id), Unset, Unset, Ref(placement), Ref(shape), Enum(type), Ref(axis));
@@ -237,7 +237,7 @@ public static class IfcExport
             if (b.SecondMoment != 0) findings.Warning("BAR_FIELD_NOT_WRITTEN", f + ".second_moment", b.Id, "second moment of area is not written");
             if (b.HasEffectiveLengthFactor) findings.Warning("BAR_FIELD_NOT_WRITTEN", f + ".effective_length_factor", b.Id, "effective-length factor is not written");
         }
-        if (loads.Patterns.Count > 0 || loads.Combination is not null)
+        if (loads.LoadSets.Count > 0 || loads.Combination is not null)
             findings.Warning("COMBINATION_NOT_WRITTEN", "load_case.patterns", "", "load patterns and combinations are not written; only the constant and reference loads are");
         if (loads.Gravity is not null)
             findings.Warning("GRAVITY_NOT_WRITTEN", "load_case.gravity", "", "the gravity vector is not written");
