@@ -23,6 +23,7 @@ public class SensitivityPictureTests
         Assert.StartsWith("most effective members: south (8), east (2)", ranking);
         Assert.DoesNotContain("north", ranking);
         Assert.Contains(doc.Descendants(), e => (string?)e.Attribute("class") == "caution");
+        Assert.Contains(doc.Descendants(), e => (string?)e.Attribute("class") == "gradient-caution" && e.Value.Contains("a gradient is local"));
     }
 
     [Fact]

@@ -80,6 +80,7 @@ internal static class ConsoleReport
             if (!c.Sensitivity.Defined) { Console.WriteLine($"design sensitivities at #{c.Sequence}: not defined ({c.Sensitivity.Note})"); continue; }
             var best = c.Sensitivity.Bars.OrderByDescending(b => b.Volume).Take(5).Where(b => b.Volume > 0).ToList();
             Console.WriteLine($"design sensitivities at #{c.Sequence} ({c.Sensitivity.Note}): members where added material raises λ_cr most, dλ_cr/dV");
+            Console.WriteLine("  (a gradient is local: it predicts small changes only; re-trace a changed design to confirm)");
             foreach (var b in best) Console.WriteLine($"  {b.Bar,-20} {b.Volume,14:G5}");
             if (c.Sensitivity.HasDirectional) Console.WriteLine($"  along the design direction: dλ_cr = {c.Sensitivity.Directional:G6}");
             int breaking = c.Sensitivity.Bars.Count(b => b.BreaksBifurcation) + c.Sensitivity.Nodes.Sum(n => n.BreaksBifurcationAlong.Length)

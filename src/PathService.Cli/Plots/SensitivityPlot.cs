@@ -20,6 +20,7 @@ internal static class SensitivityPlot
         var svg = new SvgWriter(width, height, input.Title);
         svg.Text(Margin, 28, input.Title, 16, cls: "title");
         svg.Text(Margin, 46, "members coloured by dλ_cr/dV: the gain in critical load factor per unit of added member volume (at fixed geometry)", 11, cls: "scale-note");
+        svg.Text(Margin, 60, "a gradient is local: it predicts the effect of small changes only; re-trace the changed design to confirm", 10, cls: "gradient-caution", fill: "#666666");
         double top = input.VolumeDerivative.Select(Math.Abs).DefaultIfEmpty(0).Max();
         int up = Math.Clamp(input.UpAxis, 0, 2), first = (up + 1) % 3, second = (up + 2) % 3;
         if (Extent(input.Coordinates, second) > Extent(input.Coordinates, first) * (1 + 1e-9)) (first, second) = (second, first);
