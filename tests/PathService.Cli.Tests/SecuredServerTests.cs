@@ -191,6 +191,10 @@ public sealed class SecuredServerTests(ITestOutputHelper output) : IDisposable
         Assert.Equal(1, (killed == honest ? faulty : honest).TraceCalls);
         // The first replayed point already differs, by one unit in the last place of λ; nothing of the restarted stream was passed on.
         Assert.Contains("point 0: load factor", ex.Message);
-        Assert.Equal(Enumerable.Range(0, 11), rec.Points.Select(p => p.Index));
+        // Points already in flight when the instance was killed may still arrive (a few more than 10 under load);
+        // what matters is that they are the first stream's, each once and in order.
+        var received = rec.Points.Select(p => p.Index).ToList();
+        Assert.True(received.Count >= 11, $"only {received.Count} points before the restart");
+        Assert.Equal(Enumerable.Range(0, received.Count), received);
     }
 }
