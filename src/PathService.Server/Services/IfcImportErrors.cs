@@ -31,7 +31,8 @@ internal static class IfcImportErrors
     {
         if (message.StartsWith("force unit", StringComparison.Ordinal)) return "units.force";
         if (message.StartsWith("length unit", StringComparison.Ordinal)) return "units.length";
-        if (message.Contains("analysis model", StringComparison.Ordinal)) return "analysis_model";
+        if (message.Contains("IfcStructuralAnalysisModel", StringComparison.Ordinal) || message.Contains("analysis models", StringComparison.Ordinal))
+            return "analysis_model";
         if (message.Contains("asked as the reference", StringComparison.Ordinal)) return "reference_load_group";
         if (message.Contains("asked as the constant", StringComparison.Ordinal) || message.Contains("the constant and the reference", StringComparison.Ordinal))
             return "constant_load_group";
