@@ -60,6 +60,14 @@ internal static class CliOptions
     public static readonly Option<List<double>> Weights = Numbers("--weights", "weight of each mode of --modes in the shape, comma-separated (default: all 1)", required: false);
     public static readonly Option<string?> SweepOut = new("--out") { Description = "folder for knockdown.csv and knockdown.svg", HelpName = "DIR" };
 
+    // import.
+    public static readonly Option<string?> AnalysisModel = new("--analysis-model") { Description = "name or GlobalId of the IfcStructuralAnalysisModel to read (default: the only one in the file)", HelpName = "NAME" };
+    public static readonly Option<string?> ReferenceLoadGroup = new("--reference-load-group") { Description = "name or GlobalId of the load group that becomes the reference load (default: the only group with point actions)", HelpName = "GROUP" };
+    public static readonly Option<string?> ConstantLoadGroup = new("--constant-load-group") { Description = "name or GlobalId of the load group that becomes the constant load (default: none)", HelpName = "GROUP" };
+    public static readonly Option<string> ForceUnit = Choice("--force-unit", "force unit label of the written model", "kN", "N", "kN", "MN");
+    public static readonly Option<string> LengthUnit = Choice("--length-unit", "length unit label of the written model", "m", "mm", "cm", "m");
+    public static readonly Option<string?> ImportOut = new("--out") { Description = "request file to write (TracePathRequest JSON: model, load case, default controls; default: the IFC file's name with .json)", HelpName = "FILE" };
+
     private static Option<string?> Addresses()
     {
         var o = new Option<string?>("--server")

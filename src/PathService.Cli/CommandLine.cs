@@ -70,7 +70,12 @@ internal static class CommandLine
         }
         sweep.SetAction((p, ct) => WithBackend(p, b => ImperfectionSweepCommand.RunAsync(b, RequestReader.Read(p.GetValue(model)!), p, ct)));
 
-        foreach (var c in new[] { trace, check, linear, buckling, batch, sweep, demo }) root.Subcommands.Add(c);
+        var ifc = new Argument<string>("file") { Description = "IFC file (ISO 10303-21, IFC4 or IFC2X3) holding a structural analysis model" };
+        var import = Command("import", "read the structural analysis model of an IFC file and write it as a request file", ifc,
+            AnalysisModel, ReferenceLoadGroup, ConstantLoadGroup, ForceUnit, LengthUnit, ImportOut);
+        import.SetAction((p, ct) => WithBackend(p, b => ImportCommand.RunAsync(b, p.GetValue(ifc)!, p, ct)));
+
+        foreach (var c in new[] { trace, check, linear, buckling, batch, sweep, demo, import }) root.Subcommands.Add(c);
         return root;
     }
 

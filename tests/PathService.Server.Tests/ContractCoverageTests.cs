@@ -88,8 +88,9 @@ public sealed class ContractCoverageTests : IAsyncLifetime
         Assert.Contains(ContractCatalog.Services, s => s.FullName == "pathservice.v1.StructuralPathService");
         Assert.Contains(ContractCatalog.Services, s => s.FullName == "pathservice.v1.ImperfectionSweepService");
         Assert.Contains(ContractCatalog.Methods, m => m.Name == "SweepImperfections");
-        Assert.Equal(5, ContractCatalog.Methods.Count);
-        Assert.Equal(3, ContractCatalog.JsonPostRoutes.Count);
+        Assert.Contains(ContractCatalog.Methods, m => m.Name == "ImportIfcModel");
+        Assert.Equal(6, ContractCatalog.Methods.Count);
+        Assert.Equal(4, ContractCatalog.JsonPostRoutes.Count);
     }
 
     [Theory]

@@ -66,6 +66,8 @@ internal sealed class GrpcBackend : IAnalysisBackend
 
     public Task<FindBucklingModesResponse> BucklingAsync(FindBucklingModesRequest request, CancellationToken ct) => Unary(() => _connection.BucklingAsync(request, ct));
 
+    public Task<ImportIfcModelResponse> ImportIfcAsync(ImportIfcModelRequest request, CancellationToken ct) => Unary(() => _connection.ImportIfcAsync(request, ct));
+
     private static async Task<T> Unary<T>(Func<Task<T>> call)
     {
         try { return await call(); }
@@ -78,7 +80,7 @@ internal sealed class GrpcBackend : IAnalysisBackend
         var findings = new List<Finding>();
         var status = ex.GetRpcStatus();
         if (status?.GetDetail<BadRequest>() is { } bad)
-            findings.AddRange(bad.FieldViolations.Select(v => new Finding { Severity = FindingSeverity.Error, Field = v.Field, Message = v.Description }));
+            findings.AddRange(bad.FieldViolations.Select(v => new Finding { Severity = FindingSeverity.Error, Code = v.Reason, Field = v.Field, Message = v.Description }));
         if (status?.GetDetail<ErrorInfo>() is { } info)
             findings.Add(new Finding { Severity = FindingSeverity.Error, Code = info.Reason, ItemId = info.Metadata.TryGetValue("node", out var n) ? n : "", Message = status.Message });
         return ex.StatusCode switch

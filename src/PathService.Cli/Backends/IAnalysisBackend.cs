@@ -11,6 +11,8 @@ internal interface IAnalysisBackend : IAsyncDisposable
     Task<AnalyzeLinearResponse> LinearAsync(AnalyzeLinearRequest request, CancellationToken ct);
     Task<FindBucklingModesResponse> BucklingAsync(FindBucklingModesRequest request, CancellationToken ct);
     IAsyncEnumerable<SweepImperfectionsResponse> SweepAsync(SweepImperfectionsRequest request, CancellationToken ct);
+    /// <summary>Reads an IFC file into a model and load case; an unreadable file or a bad option is an AnalysisRejectedException.</summary>
+    Task<ImportIfcModelResponse> ImportIfcAsync(ImportIfcModelRequest request, CancellationToken ct);
 }
 
 /// <summary>A request the analysis refused (invalid input, a mechanism, a limit), with its findings.</summary>

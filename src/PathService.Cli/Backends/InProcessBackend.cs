@@ -4,6 +4,8 @@ using PathService.Contracts.V1;
 using PathService.Engine.Analyses;
 using PathService.Engine.Continuation;
 using PathService.Engine.Model;
+using PathService.Ifc.Mapping;
+using PathService.Ifc.Step;
 
 namespace PathService.Cli.Backends;
 
@@ -94,6 +96,35 @@ internal sealed class InProcessBackend : IAnalysisBackend
         while (await Task.Run(events.MoveNext, CancellationToken.None))
             yield return ResultMapper.ToSweepResponse(events.Current);
     }
+
+    public Task<ImportIfcModelResponse> ImportIfcAsync(ImportIfcModelRequest request, CancellationToken ct)
+    {
+        var options = new IfcImportOptions
+        {
+            AnalysisModel = NullIfEmpty(request.AnalysisModel),
+            ReferenceLoadGroup = NullIfEmpty(request.ReferenceLoadGroup),
+            ConstantLoadGroup = NullIfEmpty(request.ConstantLoadGroup),
+            ForceUnit = NullIfEmpty(request.Units?.Force) ?? "kN",
+            LengthUnit = NullIfEmpty(request.Units?.Length) ?? "m",
+        };
+        IfcImportResult r;
+        try { r = IfcImport.Read(new MemoryStream(request.IfcFile.ToByteArray(), writable: false), options); }
+        catch (StepFormatException ex)
+        {
+            throw new AnalysisRejectedException(ex.Message,
+                [new Finding { Severity = Contracts.V1.FindingSeverity.Error, Code = ex.Code, Field = "ifc_file", Message = ex.Message }],
+                resourceLimit: ex.Code == "FILE_TOO_LARGE");
+        }
+        catch (ArgumentException ex)
+        {
+            throw new AnalysisRejectedException(ex.Message, [new Finding { Severity = Contracts.V1.FindingSeverity.Error, Code = "IFC_OPTION_INVALID", Message = ex.Message }]);
+        }
+        var response = new ImportIfcModelResponse { Model = r.Model, LoadCase = r.LoadCase, UnitsNote = r.UnitsNote, Schema = r.Schema };
+        response.Findings.AddRange(r.Findings);
+        return Task.FromResult(response);
+    }
+
+    private static string? NullIfEmpty(string? s) => string.IsNullOrEmpty(s) ? null : s;
 
     public ValueTask DisposeAsync() => ValueTask.CompletedTask;
 

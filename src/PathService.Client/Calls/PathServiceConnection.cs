@@ -199,6 +199,9 @@ public sealed class PathServiceConnection : IAsyncDisposable, IDisposable
     public Task<FindBucklingModesResponse> BucklingAsync(FindBucklingModesRequest request, CancellationToken ct = default) =>
         Paths.FindBucklingModesAsync(request, cancellationToken: ct).ResponseAsync;
 
+    public Task<ImportIfcModelResponse> ImportIfcAsync(ImportIfcModelRequest request, CancellationToken ct = default) =>
+        Paths.ImportIfcModelAsync(request, cancellationToken: ct).ResponseAsync;
+
     /// <summary>
     /// A server certificate is accepted when it passes the system's checks, or when it names the host and chains to
     /// the given CA (only that CA as root; revocation is not checked, a private CA rarely publishes lists).

@@ -13,6 +13,8 @@ using PathService.Server.Hosting;
 using PathService.Server.Security;
 using PathService.Server.Telemetry;
 using PathService.Engine.Continuation;
+using PathService.Ifc.Mapping;
+using PathService.Ifc.Step;
 using FindingSeverity = PathService.Engine.Model.FindingSeverity;
 
 namespace PathService.Server.Services;
@@ -153,5 +155,61 @@ public sealed class StructuralPathGrpcService(
         });
         return response!;
     }
+
+    public override async Task<ImportIfcModelResponse> ImportIfcModel(ImportIfcModelRequest request, ServerCallContext context)
+    {
+        ImportIfcModelResponse? response = null;
+        await frame.RunAsync("ImportIfcModel", null, context, () =>
+        {
+            // Before the slot: the cheap refusals. The size is bounded by gRPC's receive limit already (the same
+            // Limits:MaxRequestBytes); the reader holds the file to it again, so no route can feed it more.
+            if (request.IfcFile.IsEmpty) throw RpcErrors.InvalidField("ifc_file", "IFC_FILE_MISSING", "ifc_file is empty; send the IFC file's bytes");
+            long maxBytes = limits.Values.MaxRequestBytes > 0 ? limits.Values.MaxRequestBytes : long.MaxValue;
+            if (request.IfcFile.Length > maxBytes)
+                throw RpcErrors.TooLarge("ifc_file", "ifc_file", $"the IFC file has {request.IfcFile.Length} bytes; this server reads at most {maxBytes}");
+            var options = new IfcImportOptions
+            {
+                MaxBytes = maxBytes,
+                AnalysisModel = NullIfEmpty(request.AnalysisModel),
+                ReferenceLoadGroup = NullIfEmpty(request.ReferenceLoadGroup),
+                ConstantLoadGroup = NullIfEmpty(request.ConstantLoadGroup),
+                ForceUnit = NullIfEmpty(request.Units?.Force) ?? "kN",
+                LengthUnit = NullIfEmpty(request.Units?.Length) ?? "m",
+            };
+            return new PreparedAnalysis(async call =>
+            {
+                IfcImportResult result;
+                try
+                {
+                    // Parsing and mapping run on a compute thread of their own, inside the slot; the reader checks no
+                    // token, so the time bound ends the call (DEADLINE_EXCEEDED) while the thread finishes the file.
+                    result = await ComputeThreads.Run(() =>
+                    {
+                        using var stream = new MemoryStream(request.IfcFile.Memory.ToArray(), writable: false);
+                        return IfcImport.Read(stream, options);
+                    }).WaitAsync(call.Token);
+                }
+                catch (StepFormatException ex) { throw IfcImportErrors.FromFormat(ex); }
+                catch (ArgumentException ex) { throw IfcImportErrors.FromOption(ex, request); }
+                // The model read must fit the same limits as a model sent directly.
+                limits.CheckModelSize(result.Model);
+                response = new ImportIfcModelResponse
+                {
+                    Model = result.Model,
+                    LoadCase = result.LoadCase,
+                    UnitsNote = result.UnitsNote,
+                    Schema = result.Schema,
+                };
+                response.Findings.AddRange(result.Findings);
+                FiniteGuard.ThrowIfNonFinite(response);
+                logger.LogInformation("IFC import ({Schema}): {Nodes} nodes, {Bars} bars, {Findings} findings",
+                    result.Schema, result.Model.Nodes.Count, result.Model.Bars.Count, result.Findings.Count);
+                return result.Findings.Any(f => f.Severity == Contracts.V1.FindingSeverity.Error) ? "Incomplete" : "Imported";
+            }, limits.MaxTraceTime);
+        });
+        return response!;
+    }
+
+    private static string? NullIfEmpty(string? s) => string.IsNullOrEmpty(s) ? null : s;
 
 }
