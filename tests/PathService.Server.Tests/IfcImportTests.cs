@@ -27,36 +27,8 @@ public sealed class IfcImportTests : IAsyncLifetime
 
     private static byte[] FileBytes(string name) => File.ReadAllBytes(Path.Combine(AppContext.BaseDirectory, "Files", name));
 
-    /// <summary>
-    /// The roof the stored file trussed-roof.ifc was written from (kN, m): four pinned corners, two mid-eave nodes held in
-    /// x and z with a 2500 kN/m spring in y, a ridge of two nodes 0.5 m up, nine bars, 10 kN down at each ridge node.
-    /// </summary>
-    private static (StructureModel Model, LoadCase Loads) TrussedRoof()
-    {
-        var m = new StructureModel { Name = "trussed roof", Units = new UnitLabels { Force = "kN", Length = "m" } };
-        void N(string id, double x, double y, double z) => m.Nodes.Add(new Node { Id = id, X = x, Y = y, Z = z });
-        N("C1", -4, -3, 0); N("C2", 4, -3, 0); N("C3", 4, 3, 0); N("C4", -4, 3, 0);
-        N("M1", 0, -3, 0); N("M2", 0, 3, 0);
-        N("R1", -1.5, 0, 0.5); N("R2", 1.5, 0, 0.5);
-        void B(string id, string a, string b, double area) =>
-            m.Bars.Add(new Bar { Id = id, StartNode = a, EndNode = b, ElasticModulus = 2.1e8, Area = area });
-        B("r1c1", "R1", "C1", 0.002); B("r1c4", "R1", "C4", 0.002); B("r1m1", "R1", "M1", 0.0015); B("r1m2", "R1", "M2", 0.0015);
-        B("r2c2", "R2", "C2", 0.002); B("r2c3", "R2", "C3", 0.002); B("r2m1", "R2", "M1", 0.0015); B("r2m2", "R2", "M2", 0.0015);
-        B("ridge", "R1", "R2", 0.001);
-        foreach (var c in new[] { "C1", "C2", "C3", "C4" })
-            foreach (var d in new[] { Direction.X, Direction.Y, Direction.Z })
-                m.Supports.Add(new Support { Node = c, Direction = d });
-        foreach (var e in new[] { "M1", "M2" })
-        {
-            m.Supports.Add(new Support { Node = e, Direction = Direction.X });
-            m.Supports.Add(new Support { Node = e, Direction = Direction.Z });
-            m.GroundSprings.Add(new GroundSpring { Id = $"{e}-ky", Node = e, Direction = Direction.Y, Stiffness = 2500 });
-        }
-        var loads = new LoadCase();
-        loads.Reference.Add(new NodalLoad { Node = "R1", Fz = -10 });
-        loads.Reference.Add(new NodalLoad { Node = "R2", Fz = -10 });
-        return (m, loads);
-    }
+    /// <summary>The roof the stored file trussed-roof.ifc was written from (the IFC tests' own builder, linked in).</summary>
+    private static (StructureModel Model, LoadCase Loads) TrussedRoof() => PathService.Ifc.Tests.TestStructures.TrussedRoof();
 
     private async Task<CriticalPoint> FirstCriticalAsync(StructureModel model, LoadCase loads)
     {
