@@ -81,78 +81,27 @@ internal static class SensitivityAnalysis
                 return CriticalLoadSensitivity.Undefined(method, k, "the critical eigenvalue does not change along the fundamental path (aᵀF_ref = 0): the crossing is not transversal");
         }
 
-        var area = new double[m.BarCount];
-        var modulus = new double[m.BarCount];
-        var volume = new double[m.BarCount];
+        bool bifurcation = method == SensitivityMethod.ZeroEigenvalue;
+        double phiMax = MaxAbs(phiFull[0]);
+        // The bars are independent: each participant of the team evaluates a contiguous range and writes per-bar slots;
+        // the node sums are then made in bar order on this thread, so results do not depend on the thread count.
+        var team = new WorkerTeam(Environment.ProcessorCount);
+        var pass = new BarPass(m, u, phiFull, wFull, denominator, selfWeight, bifurcation, phiMax).WithTeam(team);
+        team.Run(pass, team.Threads);
         var coords = new double[3 * m.NodeCount];
-        // Per parameter: φᵀ∂r/∂p (breaking check) and the size of ∂r/∂p it is compared with.
         var modeWorkCoord = new double[3 * m.NodeCount];
         var sizeCoord = new double[3 * m.NodeCount];
-        var barBreaks = new bool[m.BarCount];
-        Span<double> force = stackalloc double[3 * BarDesignTerms.ParameterCount];
-        Span<double> weight = stackalloc double[3 * BarDesignTerms.ParameterCount];
-        Span<double> quadratic = stackalloc double[BarDesignTerms.ParameterCount];
-        Span<double> meanQuadratic = stackalloc double[BarDesignTerms.ParameterCount];
-        Span<double> contraction = stackalloc double[BarDesignTerms.ParameterCount];
-        Span<double> phiBar = stackalloc double[6];
-        Span<double> work = stackalloc double[BarDesignTerms.ParameterCount];
-        Span<double> size = stackalloc double[BarDesignTerms.ParameterCount];
-        double phiMax = MaxAbs(phiFull[0]);
-        var (gx, gy, gz) = m.Definition.Gravity;
-        bool bifurcation = method == SensitivityMethod.ZeroEigenvalue;
         for (int b = 0; b < m.BarCount; b++)
         {
-            int i = m.BarStart[b], j = m.BarEnd[b];
-            // A slack tension- or compression-only bar has no first-order effect.
-            if (m.HasMemberLaws && BarKinematics.Evaluate(m, u, b, 0).Regime == BarRegime.Slack) continue;
-            var bar = new BarDesignTerms.Bar(
-                m.Coordinates[3 * i], m.Coordinates[3 * i + 1], m.Coordinates[3 * i + 2], m.Coordinates[3 * j], m.Coordinates[3 * j + 1], m.Coordinates[3 * j + 2],
-                m.BarArea[b], m.BarModulus[b], m.BarInitialStress[b],
-                u[3 * j] - u[3 * i], u[3 * j + 1] - u[3 * i + 1], u[3 * j + 2] - u[3 * i + 2],
-                m.Definition.Bars[b].Density, selfWeight, gx, gy, gz);
-            meanQuadratic.Clear();
-            for (int q = 0; q < (bifurcation ? k : 1); q++)
+            for (int e = 0; e < 6; e++)
             {
-                if (bifurcation) { Gather(phiFull[q], i, j, phiBar); BarDesignTerms.Derivatives(bar, phiBar, force, weight, quadratic, forces: q == 0); }
-                else BarDesignTerms.Derivatives(bar, [], force, weight, []);
-                if (bifurcation) for (int p = 0; p < BarDesignTerms.ParameterCount; p++) meanQuadratic[p] += quadratic[p] / k;
+                int dof = 3 * (e < 3 ? m.BarStart[b] : m.BarEnd[b]) + e % 3;
+                coords[dof] += pass.Coordinates[6 * b + e];
+                modeWorkCoord[dof] += pass.ModeWork[6 * b + e];
+                sizeCoord[dof] += pass.ChangeSize[6 * b + e];
             }
-            Contract(force, weight, wFull, i, j, contraction);
-            for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
-            {
-                // Limit point: φᵀr_p / φᵀF_ref. Bifurcation: −(φᵀK_pφ − aᵀr_p) / aᵀF_ref.
-                double d = bifurcation ? -(meanQuadratic[p] - contraction[p]) / denominator : contraction[p] / denominator;
-                if (p == 0) area[b] = d;
-                else if (p == 1) modulus[b] = d;
-                else coords[3 * (p < 5 ? i : j) + (p - 2) % 3] += d;
-            }
-            if (bifurcation)
-            {
-                for (int p = 0; p < BarDesignTerms.ParameterCount; p++) size[p] = ResidualChangeSize(force, weight, p);
-                bool areaBreaks = false, modulusBreaks = false;
-                for (int q = 0; q < k; q++)
-                {
-                    Contract(force, weight, phiFull[q], i, j, work);
-                    for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
-                    {
-                        if (p < 2)
-                        {
-                            // Any of the coalescing modes doing work on the change breaks the (multiple) bifurcation.
-                            bool breaks = Math.Abs(work[p]) > BreakingRatio * size[p] * phiMax;
-                            if (p == 0) areaBreaks |= breaks; else modulusBreaks |= breaks;
-                        }
-                        else
-                        {
-                            int dof = 3 * (p < 5 ? i : j) + (p - 2) % 3;
-                            modeWorkCoord[dof] += Math.Abs(work[p]) / k;
-                            if (q == 0) sizeCoord[dof] += size[p];
-                        }
-                    }
-                }
-                barBreaks[b] = areaBreaks || modulusBreaks;
-            }
-            volume[b] = area[b] / m.BarLength[b];
         }
+        var (area, modulus, volume, barBreaks) = (pass.Area, pass.Modulus, pass.Volume, pass.Breaks);
 
         var ground = new double[m.GroundSpringStiffness.Length];
         var groundBreaks = new bool[ground.Length];
@@ -191,6 +140,82 @@ internal static class SensitivityAnalysis
             : "limit point";
         return new CriticalLoadSensitivity(true, note, method, k, area, modulus, volume, coords, ground, link,
             new SymmetryBreaks(barBreaks, nodeAxes, groundBreaks, linkBreaks));
+    }
+
+    /// <summary>
+    /// The per-bar part of the sensitivities: for each bar its area, modulus and volume derivatives, its six end-coordinate
+    /// derivatives, and at a bifurcation the mode's work on each change and the change's size (for the breaking flags).
+    /// </summary>
+    private sealed class BarPass(StructuralModel m, double[] u, List<double[]> phiFull, double[] wFull, double denominator,
+        double selfWeight, bool bifurcation, double phiMax) : ITeamWork
+    {
+        public readonly double[] Area = new double[m.BarCount], Modulus = new double[m.BarCount], Volume = new double[m.BarCount];
+        public readonly bool[] Breaks = new bool[m.BarCount];
+        public readonly double[] Coordinates = new double[6 * m.BarCount], ModeWork = new double[6 * m.BarCount], ChangeSize = new double[6 * m.BarCount];
+
+        public void Execute(int participant)
+        {
+            // Participants split the bars into contiguous ranges; the count is read from the team before the run.
+            int count = Math.Max(1, _team?.Participants ?? 1);
+            int from = (int)((long)m.BarCount * participant / count), to = (int)((long)m.BarCount * (participant + 1) / count);
+            Span<double> force = stackalloc double[3 * BarDesignTerms.ParameterCount];
+            Span<double> weight = stackalloc double[3 * BarDesignTerms.ParameterCount];
+            Span<double> quadratic = stackalloc double[BarDesignTerms.ParameterCount];
+            Span<double> meanQuadratic = stackalloc double[BarDesignTerms.ParameterCount];
+            Span<double> contraction = stackalloc double[BarDesignTerms.ParameterCount];
+            Span<double> phiBar = stackalloc double[6];
+            Span<double> work = stackalloc double[BarDesignTerms.ParameterCount];
+            Span<double> size = stackalloc double[BarDesignTerms.ParameterCount];
+            var (gx, gy, gz) = m.Definition.Gravity;
+            int k = phiFull.Count;
+            for (int b = from; b < to; b++)
+            {
+                int i = m.BarStart[b], j = m.BarEnd[b];
+                // A slack tension- or compression-only bar has no first-order effect.
+                if (m.HasMemberLaws && BarKinematics.Evaluate(m, u, b, 0).Regime == BarRegime.Slack) continue;
+                var bar = new BarDesignTerms.Bar(
+                    m.Coordinates[3 * i], m.Coordinates[3 * i + 1], m.Coordinates[3 * i + 2], m.Coordinates[3 * j], m.Coordinates[3 * j + 1], m.Coordinates[3 * j + 2],
+                    m.BarArea[b], m.BarModulus[b], m.BarInitialStress[b],
+                    u[3 * j] - u[3 * i], u[3 * j + 1] - u[3 * i + 1], u[3 * j + 2] - u[3 * i + 2],
+                    m.Definition.Bars[b].Density, selfWeight, gx, gy, gz);
+                meanQuadratic.Clear();
+                for (int q = 0; q < (bifurcation ? k : 1); q++)
+                {
+                    if (bifurcation) { Gather(phiFull[q], i, j, phiBar); BarDesignTerms.Derivatives(bar, phiBar, force, weight, quadratic, forces: q == 0); }
+                    else BarDesignTerms.Derivatives(bar, [], force, weight, []);
+                    if (bifurcation) for (int p = 0; p < BarDesignTerms.ParameterCount; p++) meanQuadratic[p] += quadratic[p] / k;
+                }
+                Contract(force, weight, wFull, i, j, contraction);
+                for (int p = 0; p < BarDesignTerms.ParameterCount; p++)
+                {
+                    // Limit point: φᵀr_p / φᵀF_ref. Bifurcation: −(φᵀK_pφ − aᵀr_p) / aᵀF_ref.
+                    double d = bifurcation ? -(meanQuadratic[p] - contraction[p]) / denominator : contraction[p] / denominator;
+                    if (p == 0) Area[b] = d;
+                    else if (p == 1) Modulus[b] = d;
+                    else Coordinates[6 * b + p - 2] = d;
+                }
+                Volume[b] = Area[b] / m.BarLength[b];
+                if (!bifurcation) continue;
+                for (int p = 0; p < BarDesignTerms.ParameterCount; p++) size[p] = ResidualChangeSize(force, weight, p);
+                bool breaks = false;
+                for (int q = 0; q < k; q++)
+                {
+                    Contract(force, weight, phiFull[q], i, j, work);
+                    // Any of the coalescing modes doing work on the change breaks the (multiple) bifurcation.
+                    for (int p = 0; p < 2; p++) breaks |= Math.Abs(work[p]) > BreakingRatio * size[p] * phiMax;
+                    for (int p = 2; p < BarDesignTerms.ParameterCount; p++)
+                    {
+                        ModeWork[6 * b + p - 2] += Math.Abs(work[p]) / k;
+                        if (q == 0) ChangeSize[6 * b + p - 2] = size[p];
+                    }
+                }
+                Breaks[b] = breaks;
+            }
+        }
+
+        private WorkerTeam? _team;
+
+        public BarPass WithTeam(WorkerTeam team) { _team = team; return this; }
     }
 
     /// <summary>wᵀ∂r/∂p for the bar's eight parameters: the internal force enters r with +, the self-weight with −.</summary>
