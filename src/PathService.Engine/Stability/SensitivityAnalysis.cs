@@ -69,7 +69,19 @@ internal static class SensitivityAnalysis
                 return CriticalLoadSensitivity.Undefined(method, k, "the tangent at the critical point has an exactly zero pivot; the adjoint solve is not possible there");
             var g = new double[sys.FreeCount];
             var gFull = new double[3 * m.NodeCount];
-            foreach (var phi in phiFull) AddQuadraticGradient(m, u, phi, 1.0 / k, gFull, sys.Assembler.PlasticStrain);
+            // ∇_u(φᵀKφ) per bar on the team's threads, summed into nodes in bar order (independent of the thread count).
+            var gradientTeam = new WorkerTeam(Environment.ProcessorCount);
+            var gradient = new GradientPass(m, u, phiFull, sys.Assembler.PlasticStrain, gradientTeam);
+            gradientTeam.Run(gradient, gradientTeam.Threads);
+            for (int b = 0; b < m.BarCount; b++)
+            {
+                int i = m.BarStart[b], j = m.BarEnd[b];
+                for (int c = 0; c < 3; c++)
+                {
+                    gFull[3 * j + c] += gradient.PerBar[3 * b + c];
+                    gFull[3 * i + c] -= gradient.PerBar[3 * b + c];
+                }
+            }
             m.Dofs.Gather(gFull, g);
             Project(g, modes);
             sys.Factor.Solve(g);
@@ -242,19 +254,32 @@ internal static class SensitivityAnalysis
         return Math.Sqrt(s);
     }
 
-    /// <summary>Adds weight · ∇_u(φᵀKφ) of every elastic bar (springs are linear: no contribution).</summary>
-    private static void AddQuadraticGradient(StructuralModel m, double[] u, double[] phi, double weight, double[] g, double[] plastic)
+    /// <summary>
+    /// ∇_u(φᵀKφ) of every elastic bar, the mean over the modes, as the end node's share per bar (the start node's is its
+    /// negative); springs are linear and add nothing.
+    /// </summary>
+    private sealed class GradientPass(StructuralModel m, double[] u, List<double[]> modes, double[] plastic, WorkerTeam team) : ITeamWork
     {
-        for (int b = 0; b < m.BarCount; b++)
+        public readonly double[] PerBar = new double[3 * m.BarCount];
+
+        public void Execute(int participant)
         {
-            var s = BarKinematics.Evaluate(m, u, b, plastic[b]);
-            if (s.TangentModulus == 0) continue;
-            int i = m.BarStart[b], j = m.BarEnd[b];
-            double l0 = m.BarLength[b];
-            double stiffness = weight * s.TangentModulus * m.BarArea[b] / (l0 * l0 * l0);
-            var (x, y, z) = BarDesignTerms.QuadraticGradient(s.Dx, s.Dy, s.Dz, phi[3 * j] - phi[3 * i], phi[3 * j + 1] - phi[3 * i + 1], phi[3 * j + 2] - phi[3 * i + 2], stiffness);
-            g[3 * j] += x; g[3 * j + 1] += y; g[3 * j + 2] += z;
-            g[3 * i] -= x; g[3 * i + 1] -= y; g[3 * i + 2] -= z;
+            int count = Math.Max(1, team.Participants);
+            int from = (int)((long)m.BarCount * participant / count), to = (int)((long)m.BarCount * (participant + 1) / count);
+            double weight = 1.0 / modes.Count;
+            for (int b = from; b < to; b++)
+            {
+                var s = BarKinematics.Evaluate(m, u, b, plastic[b]);
+                if (s.TangentModulus == 0) continue;
+                int i = m.BarStart[b], j = m.BarEnd[b];
+                double l0 = m.BarLength[b];
+                double stiffness = weight * s.TangentModulus * m.BarArea[b] / (l0 * l0 * l0);
+                foreach (var phi in modes)
+                {
+                    var (x, y, z) = BarDesignTerms.QuadraticGradient(s.Dx, s.Dy, s.Dz, phi[3 * j] - phi[3 * i], phi[3 * j + 1] - phi[3 * i + 1], phi[3 * j + 2] - phi[3 * i + 2], stiffness);
+                    PerBar[3 * b] += x; PerBar[3 * b + 1] += y; PerBar[3 * b + 2] += z;
+                }
+            }
         }
     }
 

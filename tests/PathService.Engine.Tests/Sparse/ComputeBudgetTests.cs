@@ -91,4 +91,39 @@ public class ComputeBudgetTests
         Assert.Equal(free.Force, starved.Force);
         Assert.Equal(free.X, starved.X);
     }
+
+    /// <summary>
+    /// Design sensitivities at a bifurcation (the post held by two equal springs, a double point) give the same bits
+    /// with helpers and with the budget spent (each bar's values are computed alone and summed into nodes in bar order).
+    /// </summary>
+    [Fact]
+    public void Sensitivities_are_bit_identical_with_and_without_helper_threads()
+    {
+        var def = PathService.Engine.Tests.TestModels.SpringHeldPost(3.0, 5.0e4, 40.0, 10.0) with
+        {
+            GroundSprings = [new GroundSpringDefinition("x", "top", Axis.X, 40.0), new GroundSpringDefinition("z", "top", Axis.Z, 40.0)],
+            Supports = [.. PathService.Engine.Tests.TestModels.Pin("base")],
+        };
+        var model = StructuralModel.Create(def);
+        var cp = new Continuation.PathTracer(model, new Continuation.SolverControls
+        {
+            InitialLoadIncrement = 1.0, TargetLoadFactor = 15, MaxPoints = 200, StopAtFirstCriticalPoint = true, DesignSensitivities = true,
+        }).Trace().OfType<Continuation.CriticalPoint>().First();
+        Stability.CriticalLoadSensitivity Compute()
+        {
+            var sys = new Continuation.EquilibriumSystem(model, new Continuation.SolverControls().SingularPivotRatio);
+            var u = cp.State!.Displacements;
+            sys.Refactor(u);
+            var modes = new[] { cp.Mode }.Concat(cp.AdditionalModes).Select(full => { var f = new double[sys.FreeCount]; model.Dofs.Gather(full, f); return f; }).ToList();
+            return Stability.SensitivityAnalysis.Compute(sys, u, cp.LoadFactor, modes, cp.Kind, factorAtU: true);
+        }
+        var shared = Compute();
+        Stability.CriticalLoadSensitivity alone;
+        using (SpendBudget()) alone = Compute();
+        Assert.True(shared.Defined, shared.Note);
+        Assert.Equal(shared.BarArea, alone.BarArea);
+        Assert.Equal(shared.NodeCoordinates, alone.NodeCoordinates);
+        Assert.Equal(shared.GroundSpringStiffness, alone.GroundSpringStiffness);
+        Assert.Equal(shared.Breaks.NodeAxes, alone.Breaks.NodeAxes);
+    }
 }
