@@ -8,7 +8,8 @@ namespace PathService.Cli.Tests;
 /// <summary>
 /// The demo dome (examples/market-hall-dome.json) as a user sends it: the sensitivities of its first limit point against
 /// central differences of the re-traced, re-located critical load, for a sample of member areas and node coordinates.
-/// Central differences are the outside reference (they only trace); the issue asks for agreement to 1e-5.
+/// Central differences are the outside reference (they only trace); the issue asks for agreement to 1e-5, the tests assert
+/// an order above the agreement measured.
 /// </summary>
 public class DemoDomeSensitivityTests
 {
@@ -39,7 +40,8 @@ public class DemoDomeSensitivityTests
             }
             double fd = (Retrace(a + h) - Retrace(a - h)) / (2 * h);
             double error = Math.Abs(s.BarArea[b] - fd) / Math.Max(Math.Abs(fd), cp.LoadFactor / a);
-            Assert.True(error < 1e-5, $"dλ/dA of {baseline.Bars[b].Id}: {s.BarArea[b]:G10} against {fd:G10} (relative {error:E2})");
+            // Measured at most 3.7e-10.
+            Assert.True(error < 5e-9, $"dλ/dA of {baseline.Bars[b].Id}: {s.BarArea[b]:G10} against {fd:G10} (relative {error:E2})");
         }
         foreach (var (node, axis) in new[] { ("crown", 2), (baseline.Nodes[5].Id, 0) })
         {
@@ -54,7 +56,8 @@ public class DemoDomeSensitivityTests
             }
             double fd = (Retrace(h) - Retrace(-h)) / (2 * h);
             double error = Math.Abs(s.NodeCoordinates[3 * n + axis] - fd) / (Math.Abs(fd) + cp.LoadFactor);
-            Assert.True(error < 1e-5, $"dλ/d{"xyz"[axis]} of {node}: {s.NodeCoordinates[3 * n + axis]:G10} against {fd:G10} (relative {error:E2})");
+            // Measured 1.1e-7 (crown z) and 2.3e-10 (ring node x): the step h = 1e-4 m limits the difference quotient.
+            Assert.True(error < 1e-6, $"dλ/d{"xyz"[axis]} of {node}: {s.NodeCoordinates[3 * n + axis]:G10} against {fd:G10} (relative {error:E2})");
         }
     }
 }

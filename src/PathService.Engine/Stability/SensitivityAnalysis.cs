@@ -53,6 +53,8 @@ internal static class SensitivityAnalysis
         var (constantFactor, referenceFactor) = SelfWeightFactors(m.Definition);
         double selfWeight = constantFactor + lambda * referenceFactor;
 
+        // One team for both bar passes (the gradient before the adjoint solve and the derivatives after it).
+        var team = new WorkerTeam(Environment.ProcessorCount);
         double[] wFull; // the vector the residual derivatives are contracted with
         double denominator;
         if (method == SensitivityMethod.LimitPoint)
@@ -70,9 +72,8 @@ internal static class SensitivityAnalysis
             var g = new double[sys.FreeCount];
             var gFull = new double[3 * m.NodeCount];
             // ∇_u(φᵀKφ) per bar on the team's threads, summed into nodes in bar order (independent of the thread count).
-            var gradientTeam = new WorkerTeam(Environment.ProcessorCount);
-            var gradient = new GradientPass(m, u, phiFull, sys.Assembler.PlasticStrain, gradientTeam);
-            gradientTeam.Run(gradient, gradientTeam.Threads);
+            var gradient = new GradientPass(m, u, phiFull, sys.Assembler.PlasticStrain, team);
+            team.Run(gradient, team.Threads);
             for (int b = 0; b < m.BarCount; b++)
             {
                 int i = m.BarStart[b], j = m.BarEnd[b];
@@ -97,8 +98,7 @@ internal static class SensitivityAnalysis
         double phiMax = MaxAbs(phiFull[0]);
         // The bars are independent: each participant of the team evaluates a contiguous range and writes per-bar slots;
         // the node sums are then made in bar order on this thread, so results do not depend on the thread count.
-        var team = new WorkerTeam(Environment.ProcessorCount);
-        var pass = new BarPass(m, u, phiFull, wFull, denominator, selfWeight, bifurcation, phiMax).WithTeam(team);
+        var pass = new BarPass(m, u, phiFull, wFull, denominator, selfWeight, bifurcation, phiMax, team);
         team.Run(pass, team.Threads);
         var coords = new double[3 * m.NodeCount];
         var modeWorkCoord = new double[3 * m.NodeCount];
@@ -159,7 +159,7 @@ internal static class SensitivityAnalysis
     /// derivatives, and at a bifurcation the mode's work on each change and the change's size (for the breaking flags).
     /// </summary>
     private sealed class BarPass(StructuralModel m, double[] u, List<double[]> phiFull, double[] wFull, double denominator,
-        double selfWeight, bool bifurcation, double phiMax) : ITeamWork
+        double selfWeight, bool bifurcation, double phiMax, WorkerTeam team) : ITeamWork
     {
         public readonly double[] Area = new double[m.BarCount], Modulus = new double[m.BarCount], Volume = new double[m.BarCount];
         public readonly bool[] Breaks = new bool[m.BarCount];
@@ -168,7 +168,7 @@ internal static class SensitivityAnalysis
         public void Execute(int participant)
         {
             // Participants split the bars into contiguous ranges; the count is read from the team before the run.
-            int count = Math.Max(1, _team?.Participants ?? 1);
+            int count = Math.Max(1, team.Participants);
             int from = (int)((long)m.BarCount * participant / count), to = (int)((long)m.BarCount * (participant + 1) / count);
             Span<double> force = stackalloc double[3 * BarDesignTerms.ParameterCount];
             Span<double> weight = stackalloc double[3 * BarDesignTerms.ParameterCount];
@@ -224,10 +224,6 @@ internal static class SensitivityAnalysis
                 Breaks[b] = breaks;
             }
         }
-
-        private WorkerTeam? _team;
-
-        public BarPass WithTeam(WorkerTeam team) { _team = team; return this; }
     }
 
     /// <summary>wᵀ∂r/∂p for the bar's eight parameters: the internal force enters r with +, the self-weight with −.</summary>

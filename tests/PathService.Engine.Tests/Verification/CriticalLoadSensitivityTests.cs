@@ -249,7 +249,7 @@ public class CriticalLoadSensitivityTests
     /// structure). Central differences are taken along changes that keep its symmetry, as a designer's parameters do:
     /// every chord's area up by the same amount (RoofParameters.ChordArea), and the camber raised (RiseRatio, which
     /// moves every node). The directional derivative from the sensitivities must agree with the re-traced, re-located
-    /// λ_cr to 1e-5.
+    /// λ_cr (the issue asks for 1e-5; the asserted tolerances are an order above the measured agreement).
     /// </summary>
     [Fact]
     public void First_critical_point_of_a_bench_roof_matches_central_differences_along_symmetric_design_changes()
@@ -270,7 +270,8 @@ public class CriticalLoadSensitivityTests
         double analytic = s.Directional(new DesignDirection(BarArea: chordDirection));
         double h = 1e-4 * baseline.ChordArea;
         double fd = (First(baseline with { ChordArea = baseline.ChordArea + h }) - First(baseline with { ChordArea = baseline.ChordArea - h })) / (2 * h);
-        AssertRelative(fd, analytic, 1e-5, "dλ/d(chord area) along the symmetric change");
+        // Measured 2.5e-9 (the issue asks for 1e-5).
+        AssertRelative(fd, analytic, 3e-8, "dλ/d(chord area) along the symmetric change");
 
         // Camber: the generator moves every node's z in proportion to the rise; its derivative is that z field.
         double dr = 1e-4 * baseline.RiseRatio;
@@ -282,7 +283,8 @@ public class CriticalLoadSensitivityTests
                 dz[3 * n + c] = (c == 0 ? up.Nodes[n].X - down.Nodes[n].X : c == 1 ? up.Nodes[n].Y - down.Nodes[n].Y : up.Nodes[n].Z - down.Nodes[n].Z) / (2 * dr);
         double analyticRise = s.Directional(new DesignDirection(NodeCoordinates: dz));
         double fdRise = (First(baseline with { RiseRatio = baseline.RiseRatio + dr }) - First(baseline with { RiseRatio = baseline.RiseRatio - dr })) / (2 * dr);
-        AssertRelative(fdRise, analyticRise, 1e-5, "dλ/d(rise ratio) along the camber");
+        // Measured 4.1e-10.
+        AssertRelative(fdRise, analyticRise, 5e-9, "dλ/d(rise ratio) along the camber");
     }
 
     private static void AssertRelative(double expected, double actual, double tolerance, string what)
