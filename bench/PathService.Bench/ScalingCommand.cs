@@ -14,6 +14,8 @@ public static class ScalingCommand
         var sizes = o.String("sizes", "10,20,40,60,80,120").Split(',').Select(int.Parse).ToArray();
         int repeats = o.Int("repeats", 3);
         double referenceLimit = o.Double("reference-flops", 3e9);
+        // --numeric false: orderings and flop counts only (no factorisation timed).
+        bool numeric = o.String("numeric", "true") != "false";
         Console.WriteLine($"machine: {Machine.Describe()}");
         Console.WriteLine("|   m |   DOFs | nnz(K) | ordering | order+symb (ms) | nnz(L) | flops | supernodal (ms) | GFlop/s | scalar reference (ms) | GFlop/s | assembly (ms) |");
         Console.WriteLine("|----:|-------:|-------:|:---------|----------------:|-------:|------:|----------------:|--------:|----------------------:|--------:|--------------:|");
@@ -25,15 +27,16 @@ public static class ScalingCommand
             var u = new double[3 * model.NodeCount];
             double tAsm = Measure.MedianSeconds(() => asm.Tangent(u, values), repeats);
             long nnzFull = 2L * asm.Pattern.NonZeroCount - asm.Pattern.Size;
-            foreach (var ordering in new[] { OrderingMethod.ApproximateMinimumDegree, OrderingMethod.NestedDissection, OrderingMethod.Natural })
+            foreach (var ordering in o.String("orderings", "amd,nd,gnd,natural").Split(',').Select(ParseOrdering))
             {
                 var clock = Stopwatch.StartNew();
                 var symbolic = OrderingChoice.Analyze(model, asm.Pattern, ordering);
                 double tSym = clock.Elapsed.TotalSeconds;
                 double flops = symbolic.FactorFlopCount;
-                if (ordering == OrderingMethod.Natural && flops > 2e10)
+                string name = ordering switch { OrderingMethod.Natural => "natural", OrderingMethod.NestedDissection => "ND", OrderingMethod.GraphNestedDissection => "graph ND", OrderingMethod.Automatic => $"auto ({symbolic.Ordering})", _ => "AMD" };
+                if (!numeric || (ordering == OrderingMethod.Natural && flops > 2e10))
                 {
-                    Console.WriteLine($"| {m,3} | {asm.Pattern.Size,6} | {nnzFull,6} | natural  | {tSym * 1e3,15:F0} | {symbolic.FactorNonZeroCount,6} | {flops,5:E2} | (skipped) | | | | |");
+                    Console.WriteLine($"| {m,3} | {asm.Pattern.Size,6} | {nnzFull,6} | {name,-8} | {tSym * 1e3,15:F0} | {symbolic.FactorNonZeroCount,6} | {flops,5:E2} | (skipped) | | | | |");
                     continue;
                 }
                 var f = new SupernodalLdlFactorization(symbolic);
@@ -46,10 +49,19 @@ public static class ScalingCommand
                     refCol = $"{tRef * 1e3:F1}";
                     refRate = $"{flops / tRef / 1e9:F2}";
                 }
-                string name = ordering switch { OrderingMethod.Natural => "natural", OrderingMethod.NestedDissection => "ND", _ => "AMD" };
                 Console.WriteLine($"| {m,3} | {asm.Pattern.Size,6} | {nnzFull,6} | {name,-8} | {tSym * 1e3,15:F0} | {symbolic.FactorNonZeroCount,6} | {flops,5:E2} | {tFac * 1e3,15:F1} | {flops / tFac / 1e9,7:F2} | {refCol,21} | {refRate,7} | {tAsm * 1e3,13:F1} |");
             }
         }
         return 0;
     }
+
+    private static OrderingMethod ParseOrdering(string name) => name.Trim() switch
+    {
+        "amd" => OrderingMethod.ApproximateMinimumDegree,
+        "nd" => OrderingMethod.NestedDissection,
+        "gnd" => OrderingMethod.GraphNestedDissection,
+        "natural" => OrderingMethod.Natural,
+        "auto" => OrderingMethod.Automatic,
+        _ => throw new ArgumentException($"--orderings: unknown ordering '{name}' (amd, nd, gnd, natural, auto)"),
+    };
 }

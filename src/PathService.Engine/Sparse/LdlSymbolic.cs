@@ -1,7 +1,7 @@
 // LdlSymbolic: symbolic phase of the sparse LDL^T factorisation, once per pattern.
 //
-// Method: fill-reducing ordering (natural or approximate minimum degree,
-// Amestoy, Davis and Duff, 1996), then the permuted upper pattern with its slot
+// Method: fill-reducing ordering (natural, approximate minimum degree,
+// Amestoy, Davis and Duff, 1996, or multilevel nested dissection), then the permuted upper pattern with its slot
 // map, then elimination tree and column counts by the up-looking algorithm of
 // Davis (ACM TOMS 31(4), 2005).
 //
@@ -55,12 +55,14 @@ public sealed class LdlSymbolic
     public static LdlSymbolic Analyze(SymmetricPattern pattern, OrderingMethod ordering = OrderingMethod.ApproximateMinimumDegree)
     {
         ArgumentNullException.ThrowIfNull(pattern);
-        if (ordering != OrderingMethod.Natural && ordering != OrderingMethod.ApproximateMinimumDegree)
-            throw new ArgumentException($"Ordering {ordering} needs more than the pattern: use {nameof(FromPermutation)}.", nameof(ordering));
         var clock = Stopwatch.StartNew();
-        var perm = ordering == OrderingMethod.ApproximateMinimumDegree
-            ? ApproximateMinimumDegree.Order(pattern)
-            : Enumerable.Range(0, pattern.Size).ToArray();
+        var perm = ordering switch
+        {
+            OrderingMethod.ApproximateMinimumDegree => ApproximateMinimumDegree.Order(pattern),
+            OrderingMethod.GraphNestedDissection => MultilevelNestedDissection.Order(pattern),
+            OrderingMethod.Natural => Enumerable.Range(0, pattern.Size).ToArray(),
+            _ => throw new ArgumentException($"Ordering {ordering} needs more than the pattern: use {nameof(FromPermutation)}.", nameof(ordering)),
+        };
         return new LdlSymbolic(pattern, ordering, perm, clock.Elapsed);
     }
 

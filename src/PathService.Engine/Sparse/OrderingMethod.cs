@@ -19,4 +19,10 @@ public enum OrderingMethod
     /// large enough for the difference to matter; minimum degree otherwise.
     /// </summary>
     Automatic,
+
+    /// <summary>
+    /// Nested dissection from the matrix graph alone: multilevel separators refined by Fiduccia-Mattheyses moves
+    /// (<see cref="MultilevelNestedDissection"/>).
+    /// </summary>
+    GraphNestedDissection,
 }
