@@ -16,7 +16,8 @@ public static class TraceCommand
     public static int Run(Options o)
     {
         int m = o.Int("m", 60), points = o.Int("points", 30), repeats = o.Int("repeats", 15);
-        double increment = o.Double("increment", 0.05);
+        var defaults = new SolverControls();
+        double increment = o.Double("increment", defaults.InitialLoadIncrement);
         bool verbose = o.String("verbose", "false") == "true";
         var process = Process.GetCurrentProcess();
         Console.WriteLine($"machine: {Machine.Describe()}");
@@ -31,7 +32,8 @@ public static class TraceCommand
             InitialLoadIncrement = increment,
             MaxPoints = points,
             Monitored = [new DofReference(SpaceTrussRoof.CentreNodeId(m), Axis.Z)],
-            DetectCriticalPoints = o.String("critical", "off") == "on",
+            // Default as the engine's own (on): --critical off measures the trace without location.
+            DetectCriticalPoints = o.String("critical", defaults.DetectCriticalPoints ? "on" : "off") == "on",
         };
         long allocatedBefore = GC.GetTotalAllocatedBytes(true);
         PathSummary? summary = null;
@@ -75,7 +77,7 @@ public static class TraceCommand
         clock.Restart();
         var asm = new StructureAssembler(model);
         double assemblerSetup = clock.Elapsed.TotalSeconds;
-        var symbolic = LdlSymbolic.Analyze(asm.Pattern);
+        var symbolic = OrderingChoice.Analyze(model, asm.Pattern, OrderingMethod.Automatic); // as the trace chose
         clock.Restart();
         var factor = new SupernodalLdlFactorization(symbolic);
         double supernodalSetup = clock.Elapsed.TotalSeconds;
@@ -100,8 +102,8 @@ public static class TraceCommand
 
         Console.WriteLine($"model: double-layer roof m = {m}: {model.NodeCount} nodes, {model.BarCount} bars, {asm.Pattern.Size} DOFs");
         Console.WriteLine($"tangent: {asm.Pattern.NonZeroCount} stored (upper) nonzeros, {nnzFull} in the full matrix");
-        Console.WriteLine($"factor: nnz(L) = {symbolic.FactorNonZeroCount} (AMD), {factor.StoredEntryCount} stored in {factor.SupernodeCount} supernodes, largest front {factor.MaxFrontSize}");
-        Console.WriteLine($"ordering (AMD) {Measure.Ms(symbolic.OrderingTime.TotalSeconds)}, symbolic {Measure.Ms(symbolic.SymbolicTime.TotalSeconds)}, supernodal analysis {Measure.Ms(supernodalSetup)}, assembler set-up {Measure.Ms(assemblerSetup)}");
+        Console.WriteLine($"factor: nnz(L) = {symbolic.FactorNonZeroCount} ({symbolic.Ordering}), {factor.StoredEntryCount} stored in {factor.SupernodeCount} supernodes, largest front {factor.MaxFrontSize}");
+        Console.WriteLine($"ordering ({symbolic.Ordering}) {Measure.Ms(symbolic.OrderingTime.TotalSeconds)}, symbolic {Measure.Ms(symbolic.SymbolicTime.TotalSeconds)}, supernodal analysis {Measure.Ms(supernodalSetup)}, assembler set-up {Measure.Ms(assemblerSetup)}");
         Console.WriteLine($"numeric factorisation {Measure.Ms(tFactor)}  ({flops:E3} flops, {flops / tFactor / 1e9:F2} GFlop/s, {factor.Threads} threads, {factor.TaskCount} subtree tasks)");
         Console.WriteLine($"assembly: tangent {Measure.Ms(tTangent)}, internal force {Measure.Ms(tForce)}; solve 1 rhs {Measure.Ms(tSolve)}, 2 rhs {Measure.Ms(tSolve2)} ({factor.SolveTaskCount} subtree tasks holding {100 * factor.SolveParallelShare:F0} % of L)");
         Console.WriteLine($"checked Solve2 (backward error + refinement when needed) {Measure.Ms(tSolve2Checked)} against {Measure.Ms(tSolve2Plain)} unchecked; " +

@@ -21,8 +21,12 @@ internal static class MultilevelSeparator
     /// <summary>Coarsening stops at this many vertices (the initial separator is cheap to search below it).</summary>
     private const int CoarsestVertices = 120;
 
-    /// <summary>Seeds tried for the initial separator on the coarsest graph.</summary>
-    private const int InitialTries = 8;
+    /// <summary>
+    /// Seeds tried for the initial separator on the coarsest graph: 8 for a coarsened graph, 4 for a graph small
+    /// enough not to need coarsening (the many small parts near the leaves; 4 instead of 8 there cost +0.3 % flops
+    /// at m = 120 and saved about a quarter of the ordering time).
+    /// </summary>
+    private const int InitialTries = 8, InitialTriesSmall = 4;
 
     /// <summary>
     /// Largest part weight allowed, as a multiple of half the total weight (1.4: parts within 70/30). A looser bound
@@ -45,7 +49,7 @@ internal static class MultilevelSeparator
             g = coarse;
         }
         // (2) Initial separator on the coarsest graph.
-        var where = Initial(g, rng);
+        var where = Initial(g, rng, levels.Count == 0 ? InitialTriesSmall : InitialTries);
         // (3) Project and refine.
         for (int l = levels.Count - 1; l >= 0; l--)
         {
@@ -116,13 +120,13 @@ internal static class MultilevelSeparator
     }
 
     /// <summary>Greedy growing from several seeds, each refined; the smallest balanced separator is kept.</summary>
-    private static int[] Initial(WeightedGraph g, SplitMix rng)
+    private static int[] Initial(WeightedGraph g, SplitMix rng, int tries)
     {
         int n = g.Count;
         int[]? best = null;
         long bestSep = long.MaxValue, bestExcess = long.MaxValue;
         var queue = new int[n];
-        for (int t = 0; t < InitialTries; t++)
+        for (int t = 0; t < tries; t++)
         {
             var where = new int[n];
             Array.Fill(where, 1);

@@ -15,8 +15,9 @@ public enum OrderingMethod
     NestedDissection,
 
     /// <summary>
-    /// Whichever of minimum degree and nested dissection gives the cheaper factorisation (fewer flops), for models
-    /// large enough for the difference to matter; minimum degree otherwise.
+    /// Whichever of minimum degree and the graph nested dissection (<see cref="GraphNestedDissection"/>) gives the
+    /// cheaper factorisation (fewer flops), for models large enough for the difference to matter; minimum degree
+    /// otherwise.
     /// </summary>
     Automatic,
 
