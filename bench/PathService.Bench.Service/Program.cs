@@ -2,49 +2,154 @@ using System.Diagnostics;
 using Grpc.Core;
 using Grpc.Net.Client;
 using Microsoft.Extensions.DependencyInjection;
+using PathService.Bench.Models;
+using PathService.Contracts.Mapping;
 using PathService.Contracts.V1;
+using PathService.Engine.Continuation;
+using PathService.Engine.Model;
 using PathService.Server.Hosting;
 using PathService.Server.Tests.Fixtures;
+using EngineAxis = PathService.Engine.Model.Axis;
+using ProtoControls = PathService.Contracts.V1.SolverControls;
 
-// Time to first streamed point: the real server on a loopback port, a ~1,000-bar lattice cap, the time from sending
-// TracePath to receiving point 0 (model mapping, validation, assembly, first factorisation, serialisation, network).
-// Usage: dotnet run -c Release --project bench/PathService.Bench.Service [-- RUNS [CELLS]]
-int runs = args.Length > 0 ? int.Parse(args[0]) : 5;
-int cells = args.Length > 1 ? int.Parse(args[1]) : 18; // 3·18² + 2·18 = 1,008 bars
+// The real server on a loopback port, measured from a gRPC client in the same process.
+// Usage: dotnet run -c Release --project bench/PathService.Bench.Service [-- first-point [RUNS] [CELLS]]
+//                                                                        [-- overhead [RUNS] [M] [POINTS]]
+// first-point: time from sending TracePath to receiving point 0 for a ~1,000-bar lattice cap (model mapping,
+//   validation, assembly, first factorisation, serialisation, network), median of RUNS.
+// overhead: the same m x m bench roof trace (POINTS points, default controls) in-process through the engine and over
+//   gRPC to the server, RUNS interleaved pairs; the ratio of wall times per pair, median.
+string mode = args.Length > 0 && !char.IsDigit(args[0][0]) ? args[0] : "first-point";
+var rest = mode == "first-point" && (args.Length == 0 || char.IsDigit(args[0][0])) ? args : args.Skip(1).ToArray();
 
 var app = ServerHost.Build(["--PathService:ListenAddress=127.0.0.1", "--PathService:GrpcPort=0", "--PathService:HttpPort=-1",
     "--Serilog:MinimumLevel:Default=Warning"]);
 await app.StartAsync();
 var url = BoundEndpoints.UrlOf(app.Services.GetRequiredService<BoundEndpoints>().Grpc!);
-using var channel = GrpcChannel.ForAddress(url);
+using var channel = GrpcChannel.ForAddress(url, new GrpcChannelOptions { MaxReceiveMessageSize = null, MaxSendMessageSize = null });
 var client = new StructuralPathService.StructuralPathServiceClient(channel);
-
-var (model, loads, crown) = DemoStructures.LatticeCap(cells);
-var (small, smallLoads, smallCrown) = DemoStructures.LatticeCap(3);
-// One point is enough: the trace ends right after point 0, so each run measures only the path to the first point.
-TracePathRequest Request(StructureModel m, LoadCase l, DofRef watch) => new()
+int code = mode switch
 {
-    Model = m, LoadCase = l, Controls = new SolverControls { MaxPoints = 1, FullStateAtEnd = false, Monitored = { watch } },
+    "first-point" => await FirstPoint(rest),
+    "overhead" => await Overhead(rest),
+    _ => Usage(),
 };
+await app.StopAsync();
+return code;
 
-var factorMs = new List<double>();
-async Task<double> FirstPointMs(TracePathRequest request)
+int Usage()
 {
-    var clock = Stopwatch.StartNew();
-    using var call = client.TracePath(request);
-    if (!await call.ResponseStream.MoveNext() || call.ResponseStream.Current.Point is null) throw new InvalidOperationException("no point came back");
-    double ms = clock.Elapsed.TotalMilliseconds;
-    while (await call.ResponseStream.MoveNext())
-        if (call.ResponseStream.Current.Summary is { } summary) factorMs.Add(summary.FactorizationTime.ToTimeSpan().TotalMilliseconds);
-    return ms;
+    Console.Error.WriteLine("usage: PathService.Bench.Service [first-point [RUNS] [CELLS]] | overhead [RUNS] [M] [POINTS]");
+    return 2;
 }
 
-await FirstPointMs(Request(small, smallLoads, smallCrown)); // warm-up: JIT, connection
-factorMs.Clear();
-var times = new List<double>();
-for (int i = 0; i < runs; i++) times.Add(await FirstPointMs(Request(model, loads, crown)));
-times.Sort();
-Console.WriteLine($"time to first point, {model.Nodes.Count} nodes / {model.Bars.Count} bars over loopback gRPC, {runs} runs: " +
-    $"median {times[times.Count / 2]:F1} ms, min {times[0]:F1} ms, max {times[^1]:F1} ms (target < 50 ms); " +
-    $"of which factorising the first tangent on the server: median {factorMs.Order().ElementAt(factorMs.Count / 2):F1} ms");
-await app.StopAsync();
+async Task<int> FirstPoint(string[] a)
+{
+    int runs = a.Length > 0 ? int.Parse(a[0]) : 5;
+    int cells = a.Length > 1 ? int.Parse(a[1]) : 18; // 3·18² + 2·18 = 1,008 bars
+    var (model, loads, crown) = DemoStructures.LatticeCap(cells);
+    var (small, smallLoads, smallCrown) = DemoStructures.LatticeCap(3);
+    // One point is enough: the trace ends right after point 0, so each run measures only the path to the first point.
+    TracePathRequest Request(StructureModel m, LoadCase l, DofRef watch) => new()
+    {
+        Model = m, LoadCase = l, Controls = new ProtoControls { MaxPoints = 1, FullStateAtEnd = false, Monitored = { watch } },
+    };
+    var factorMs = new List<double>();
+    async Task<double> FirstPointMs(TracePathRequest request)
+    {
+        var clock = Stopwatch.StartNew();
+        using var call = client.TracePath(request);
+        if (!await call.ResponseStream.MoveNext() || call.ResponseStream.Current.Point is null) throw new InvalidOperationException("no point came back");
+        double ms = clock.Elapsed.TotalMilliseconds;
+        while (await call.ResponseStream.MoveNext())
+            if (call.ResponseStream.Current.Summary is { } summary) factorMs.Add(summary.FactorizationTime.ToTimeSpan().TotalMilliseconds);
+        return ms;
+    }
+
+    await FirstPointMs(Request(small, smallLoads, smallCrown)); // warm-up: JIT, connection
+    factorMs.Clear();
+    var times = new List<double>();
+    for (int i = 0; i < runs; i++) times.Add(await FirstPointMs(Request(model, loads, crown)));
+    times.Sort();
+    Console.WriteLine($"time to first point, {model.Nodes.Count} nodes / {model.Bars.Count} bars over loopback gRPC, {runs} runs: " +
+        $"median {times[times.Count / 2]:F1} ms, min {times[0]:F1} ms, max {times[^1]:F1} ms (target < 25 ms); " +
+        $"of which factorising the first tangent on the server: median {factorMs.Order().ElementAt(factorMs.Count / 2):F1} ms");
+    return 0;
+}
+
+async Task<int> Overhead(string[] a)
+{
+    int runs = a.Length > 0 ? int.Parse(a[0]) : 5;
+    int m = a.Length > 1 ? int.Parse(a[1]) : 60;
+    int points = a.Length > 2 ? int.Parse(a[2]) : 30;
+    var (model, loads) = RoofMessages(SpaceTrussRoof.Create(m));
+    var watch = new DofRef { Node = SpaceTrussRoof.CentreNodeId(m), Direction = Direction.Z };
+    // Default controls but the point budget and one monitored displacement, the same message for both sides.
+    var controls = new ProtoControls { MaxPoints = points, Monitored = { watch } };
+    var request = new TracePathRequest { Model = model, LoadCase = loads, Controls = controls };
+    Console.WriteLine($"roof m = {m}: {model.Nodes.Count} nodes, {model.Bars.Count} bars, request {request.CalculateSize() / 1e6:F2} MB; {points} points, default controls");
+
+    // In-process: the proto request mapped to the engine and traced, every event read (what the CLI's local mode does).
+    (double Seconds, int Points, long Bytes) InProcess()
+    {
+        var clock = Stopwatch.StartNew();
+        var sm = StructuralModel.Create(ModelMapper.ToDefinition(model, loads));
+        var c = ControlsMapper.ToControls(controls, 100, null);
+        int n = 0;
+        double sink = 0;
+        foreach (var e in new PathTracer(sm, c).Trace())
+            if (e is PathService.Engine.Continuation.PathPoint p) { n++; sink += p.LoadFactor + p.Monitored[0]; }
+        if (double.IsNaN(sink)) throw new InvalidOperationException("NaN");
+        return (clock.Elapsed.TotalSeconds, n, 0);
+    }
+
+    // Over gRPC: the same request, every streamed message read and its point's numbers used.
+    async Task<(double Seconds, int Points, long Bytes)> OverGrpc()
+    {
+        var clock = Stopwatch.StartNew();
+        using var call = client.TracePath(request);
+        int n = 0;
+        long bytes = 0;
+        double sink = 0;
+        while (await call.ResponseStream.MoveNext())
+        {
+            var r = call.ResponseStream.Current;
+            bytes += r.CalculateSize();
+            if (r.Point is { } p) { n++; sink += p.LoadFactor + p.Monitored[0].Value; }
+        }
+        if (double.IsNaN(sink)) throw new InvalidOperationException("NaN");
+        return (clock.Elapsed.TotalSeconds, n, bytes);
+    }
+
+    // Warm-up of both paths (JIT, connection), not counted.
+    InProcess();
+    await OverGrpc();
+    var ratios = new List<double>();
+    var local = new List<double>();
+    var remote = new List<double>();
+    for (int i = 0; i < runs; i++)
+    {
+        // Alternate which side goes first, so a drift of the machine's speed does not favour one.
+        (double Seconds, int Points, long Bytes) x, y;
+        if (i % 2 == 0) { x = InProcess(); y = await OverGrpc(); }
+        else { y = await OverGrpc(); x = InProcess(); }
+        if (x.Points != y.Points) throw new InvalidOperationException($"in-process {x.Points} points, gRPC {y.Points}");
+        local.Add(x.Seconds); remote.Add(y.Seconds); ratios.Add(y.Seconds / x.Seconds);
+        Console.WriteLine($"  pair {i + 1}: in-process {x.Seconds:F3} s, gRPC {y.Seconds:F3} s ({y.Points} points, {y.Bytes / 1e6:F2} MB streamed), ratio {y.Seconds / x.Seconds:F4}");
+    }
+    ratios.Sort(); local.Sort(); remote.Sort();
+    Console.WriteLine($"streaming overhead, {runs} interleaved pairs: gRPC / in-process median {ratios[runs / 2]:F4} " +
+        $"(range {ratios[0]:F4}–{ratios[^1]:F4}; target <= 1.05); medians in-process {local[runs / 2]:F3} s, gRPC {remote[runs / 2]:F3} s");
+    return 0;
+}
+
+static (StructureModel Model, LoadCase Loads) RoofMessages(ModelDefinition d)
+{
+    var model = new StructureModel { Name = d.Name, Units = new PathService.Contracts.V1.UnitLabels { Force = "kN", Length = "m" } };
+    foreach (var n in d.Nodes) model.Nodes.Add(new Node { Id = n.Id, X = n.X, Y = n.Y, Z = n.Z });
+    foreach (var b in d.Bars) model.Bars.Add(new Bar { Id = b.Id, StartNode = b.StartNode, EndNode = b.EndNode, ElasticModulus = b.ElasticModulus, Area = b.Area });
+    foreach (var s in d.Supports) model.Supports.Add(new Support { Node = s.Node, Direction = ModelMapper.ToDirection(s.Direction) });
+    var loads = new LoadCase();
+    foreach (var l in d.Loads.Reference) loads.Reference.Add(new PathService.Contracts.V1.NodalLoad { Node = l.Node, Fx = l.Fx, Fy = l.Fy, Fz = l.Fz });
+    return (model, loads);
+}
