@@ -48,7 +48,7 @@ public sealed class IfcImportAnalysis
                 ? Refusals.TooLarge("ifc_file", "ifc_file", ex.Message)
                 : Refusals.InvalidField("ifc_file", ex.Code, ex.Message);
         }
-        catch (ArgumentException ex) { throw Refusals.InvalidField(OptionField(ex.Message, _request), OptionReason, ex.Message); }
+        catch (IfcOptionException ex) { throw Refusals.InvalidField(FieldOf(ex.Option), OptionReason, ex.Message); }
         _checks.ModelSize(result.Model);
         var response = new ImportIfcModelResponse { Model = result.Model, LoadCase = result.LoadCase, UnitsNote = result.UnitsNote, Schema = result.Schema };
         response.Findings.AddRange(result.Findings);
@@ -56,23 +56,14 @@ public sealed class IfcImportAnalysis
         return response;
     }
 
-    /// <summary>
-    /// The request field an option fault concerns. The reader names the option in its message (it throws
-    /// ArgumentException with the parameter "options" for all of them), so the field is chosen from that wording.
-    /// </summary>
-    internal static string OptionField(string message, ImportIfcModelRequest request)
+    /// <summary>The request field of an option the reader names.</summary>
+    internal static string FieldOf(IfcOption option) => option switch
     {
-        if (message.StartsWith("force unit", StringComparison.Ordinal)) return "units.force";
-        if (message.StartsWith("length unit", StringComparison.Ordinal)) return "units.length";
-        if (message.Contains("IfcStructuralAnalysisModel", StringComparison.Ordinal) || message.Contains("analysis models", StringComparison.Ordinal))
-            return "analysis_model";
-        if (message.Contains("asked as the reference", StringComparison.Ordinal)) return "reference_load_group";
-        if (message.Contains("asked as the constant", StringComparison.Ordinal) || message.Contains("the constant and the reference", StringComparison.Ordinal))
-            return "constant_load_group";
-        // "N load groups match 'key'": the field whose value is quoted.
-        if (request.ConstantLoadGroup.Length > 0 && message.Contains($"'{request.ConstantLoadGroup}'", StringComparison.Ordinal)
-            && !(request.ReferenceLoadGroup.Length > 0 && message.Contains($"'{request.ReferenceLoadGroup}'", StringComparison.Ordinal)))
-            return "constant_load_group";
-        return request.ReferenceLoadGroup.Length > 0 ? "reference_load_group" : "ifc_file";
-    }
+        IfcOption.ForceUnit => "units.force",
+        IfcOption.LengthUnit => "units.length",
+        IfcOption.AnalysisModel => "analysis_model",
+        IfcOption.ReferenceLoadGroup => "reference_load_group",
+        IfcOption.ConstantLoadGroup => "constant_load_group",
+        _ => "ifc_file",
+    };
 }
