@@ -18,9 +18,9 @@ public static class IfcImport
     {
         options ??= new IfcImportOptions();
         if (!UnitScales.ForceLabels.ContainsKey(options.ForceUnit))
-            throw new IfcOptionException(IfcOption.ForceUnit, $"force unit '{options.ForceUnit}' is not one of {string.Join(", ", UnitScales.ForceLabels.Keys)}", nameof(options));
+            throw new IfcOptionException(IfcOption.ForceUnit, $"force unit '{options.ForceUnit}' is not one of {string.Join(", ", UnitScales.ForceLabels.Keys)}");
         if (!UnitScales.LengthLabels.ContainsKey(options.LengthUnit))
-            throw new IfcOptionException(IfcOption.LengthUnit, $"length unit '{options.LengthUnit}' is not one of {string.Join(", ", UnitScales.LengthLabels.Keys)}", nameof(options));
+            throw new IfcOptionException(IfcOption.LengthUnit, $"length unit '{options.LengthUnit}' is not one of {string.Join(", ", UnitScales.LengthLabels.Keys)}");
         if (options.MaxBytes <= 0) throw new ArgumentException("MaxBytes must be positive", nameof(options));
 
         var file = StepReader.Read(stream, options.MaxBytes, SupportedSchemas);
