@@ -17,6 +17,7 @@ COPY src/PathService.Engine/PathService.Engine.csproj src/PathService.Engine/
 COPY src/PathService.Client/PathService.Client.csproj src/PathService.Client/
 COPY src/PathService.Contracts/PathService.Contracts.csproj src/PathService.Contracts/
 COPY src/PathService.Ifc/PathService.Ifc.csproj src/PathService.Ifc/
+COPY src/PathService.Application/PathService.Application.csproj src/PathService.Application/
 COPY src/PathService.Server/PathService.Server.csproj src/PathService.Server/
 COPY deploy/probe/PathService.Probe.csproj deploy/probe/
 RUN dotnet restore src/PathService.Server/PathService.Server.csproj \
@@ -26,6 +27,7 @@ COPY src/PathService.Engine/ src/PathService.Engine/
 COPY src/PathService.Client/ src/PathService.Client/
 COPY src/PathService.Contracts/ src/PathService.Contracts/
 COPY src/PathService.Ifc/ src/PathService.Ifc/
+COPY src/PathService.Application/ src/PathService.Application/
 COPY src/PathService.Server/ src/PathService.Server/
 COPY deploy/probe/ deploy/probe/
 RUN dotnet publish src/PathService.Server/PathService.Server.csproj -c Release --no-restore -o /app/server -p:UseAppHost=false \

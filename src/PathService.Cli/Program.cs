@@ -40,7 +40,12 @@ catch (AnalysisRejectedException ex)
 {
     Console.Error.WriteLine($"pathtrace: {ex.Message}");
     foreach (var f in ex.Findings) Console.Error.WriteLine($"  {f.Field} {f.ItemId}: {f.Message}");
-    return ex.ResourceLimit ? ExitCodes.RefusedByLimits : ExitCodes.InvalidInput;
+    return ex.Kind switch
+    {
+        PathService.Application.Errors.RefusalKind.OverLimit => ExitCodes.RefusedByLimits,
+        PathService.Application.Errors.RefusalKind.OutOfTime => ExitCodes.TargetNotReached,
+        _ => ExitCodes.InvalidInput,
+    };
 }
 catch (AuthenticationFailedException ex) { Console.Error.WriteLine($"pathtrace: authentication failed: {ex.Message}"); return ExitCodes.AuthenticationFailed; }
 catch (ReplayMismatchException ex) { Console.Error.WriteLine($"pathtrace: RESULTS DISAGREE: {ex.Message}"); return ExitCodes.ReplayMismatch; }

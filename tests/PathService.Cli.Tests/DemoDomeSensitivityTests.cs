@@ -18,7 +18,7 @@ public class DemoDomeSensitivityTests
     {
         var request = RequestReader.Read(Repo.Example("market-hall-dome.json"));
         var baseline = ModelMapper.ToDefinition(request.Model, request.LoadCase);
-        var controls = ControlsMapper.ToControls(request.Controls, 200, null) with
+        var controls = ControlsMapper.ToControls(request.Controls) with
         {
             StopAtFirstCriticalPoint = true, FullStateAtCriticalPoints = true, ResidualTolerance = 1e-12, CriticalPointTolerance = 1e-12,
             TargetLoadFactor = null,

@@ -189,9 +189,11 @@ public class BadFileTests
     [Fact]
     public void Unknown_option_values_are_refused_naming_the_choices()
     {
-        var ex = Assert.Throws<ArgumentException>(() => IfcText.Import(RoofText(), new IfcImportOptions { ForceUnit = "kip" }));
+        var ex = Assert.Throws<IfcOptionException>(() => IfcText.Import(RoofText(), new IfcImportOptions { ForceUnit = "kip" }));
+        Assert.Equal(IfcOption.ForceUnit, ex.Option);
         Assert.Contains("'kip'", ex.Message);
-        var group = Assert.Throws<ArgumentException>(() => IfcText.Import(RoofText(), new IfcImportOptions { ReferenceLoadGroup = "wind" }));
+        var group = Assert.Throws<IfcOptionException>(() => IfcText.Import(RoofText(), new IfcImportOptions { ReferenceLoadGroup = "wind" }));
+        Assert.Equal(IfcOption.ReferenceLoadGroup, group.Option);
         Assert.Contains("'wind'", group.Message);
         Assert.Contains("'reference'", group.Message);
     }

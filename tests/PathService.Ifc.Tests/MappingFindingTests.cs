@@ -73,7 +73,8 @@ public class MappingFindingTests
         string data = Frame + Member(20, "m", 10, 11) +
             "#30=IFCSTRUCTURALANALYSISMODEL('g1',$,'first',$,$,.LOADING_3D.,$,$,$,$);\n#31=IFCSTRUCTURALANALYSISMODEL('g2',$,'second',$,$,.LOADING_3D.,$,$,$,$);\n" +
             "#32=IFCRELASSIGNSTOGROUP('x',$,$,$,(#10,#11,#20),$,#31);\n#33=IFCRELASSIGNSTOGROUP('y',$,$,$,(#10,#11),$,#30);";
-        var e = Assert.Throws<ArgumentException>(() => IfcText.Import(IfcText.Wrap(data)));
+        var e = Assert.Throws<IfcOptionException>(() => IfcText.Import(IfcText.Wrap(data)));
+        Assert.Equal(IfcOption.AnalysisModel, e.Option);
         Assert.Contains("#30 'first' (g1)", e.Message);
         Assert.Empty(IfcText.Import(IfcText.Wrap(data), new IfcImportOptions { AnalysisModel = "first" }).Model.Bars);
         Assert.Single(IfcText.Import(IfcText.Wrap(data), new IfcImportOptions { AnalysisModel = "g2" }).Model.Bars);

@@ -1,6 +1,9 @@
 using System.Diagnostics;
 using Google.Rpc;
 using Grpc.Core;
+using PathService.Application;
+using PathService.Application.Errors;
+using PathService.Application.Validation;
 using PathService.Contracts.Mapping;
 using PathService.Contracts.V1;
 using PathService.Engine.Model;
@@ -66,12 +69,13 @@ public sealed class LimitsTests : IAsyncLifetime
         {
             Limits = { MaxBars = 1, MaxSprings = 3 },
         }));
+        var analyses = new AnalysisApplication(limits.Analysis);
         var model = new StructureModel { Bars = { new Bar() } };
         for (int i = 0; i < 2; i++) model.GroundSprings.Add(new GroundSpring());
         model.LinkSprings.Add(new LinkSpring());
-        limits.CheckModelSize(model); // three springs beside one bar: within MaxSprings, whatever MaxBars is
+        analyses.CheckModelSize(model); // three springs beside one bar: within MaxSprings, whatever MaxBars is
         model.LinkSprings.Add(new LinkSpring());
-        var ex = Assert.Throws<RpcException>(() => limits.CheckModelSize(model));
+        var ex = PathService.Server.Errors.RpcErrors.From(Assert.Throws<AnalysisRefusedException>(() => analyses.CheckModelSize(model)));
         AssertQuota(ex, "model.springs");
         Assert.Contains("4 springs (2 ground springs, 2 link springs)", ex.Status.Detail);
         Assert.Contains("at most 3 springs", ex.Status.Detail);

@@ -31,7 +31,7 @@ public class TracePathTests(ServerFixture server)
         var streamed = await ReadAll(server.Client.TracePath(request));
 
         var model = StructuralModel.Create(ModelMapper.ToDefinition(request.Model, request.LoadCase));
-        var engine = new PathTracer(model, ControlsMapper.ToControls(controls, 100, null)).Trace().ToList();
+        var engine = new PathTracer(model, ControlsMapper.ToControls(controls)).Trace().ToList();
 
         var enginePoints = engine.OfType<EnginePoint>().ToList();
         var points = streamed.Where(r => r.UpdateCase == TracePathResponse.UpdateOneofCase.Point).Select(r => r.Point).ToList();

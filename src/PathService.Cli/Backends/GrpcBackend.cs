@@ -1,6 +1,7 @@
 using System.Runtime.CompilerServices;
 using Google.Rpc;
 using Grpc.Core;
+using PathService.Application.Errors;
 using PathService.Client.Calls;
 using PathService.Contracts.V1;
 
@@ -74,19 +75,29 @@ internal sealed class GrpcBackend : IAnalysisBackend
         catch (RpcException ex) { throw Translate(ex); }
     }
 
-    /// <summary>Maps a status to the CLI's exceptions, reading the richer error details (BadRequest, ErrorInfo).</summary>
+    /// <summary>
+    /// Maps a status to the CLI's exceptions, reading the richer error details: one finding per field violation
+    /// (BadRequest), and one for the ErrorInfo unless a violation already carries its reason (its field from the
+    /// "field" metadata, its item from "node"), so that a refusal reads as the in-process backend gives it.
+    /// </summary>
     private static Exception Translate(RpcException ex)
     {
         var findings = new List<Finding>();
         var status = ex.GetRpcStatus();
         if (status?.GetDetail<BadRequest>() is { } bad)
             findings.AddRange(bad.FieldViolations.Select(v => new Finding { Severity = FindingSeverity.Error, Code = v.Reason, Field = v.Field, Message = v.Description }));
-        if (status?.GetDetail<ErrorInfo>() is { } info)
-            findings.Add(new Finding { Severity = FindingSeverity.Error, Code = info.Reason, ItemId = info.Metadata.TryGetValue("node", out var n) ? n : "", Message = status.Message });
+        if (status?.GetDetail<ErrorInfo>() is { } info && !findings.Any(f => f.Code == info.Reason))
+            findings.Add(new Finding
+            {
+                Severity = FindingSeverity.Error, Code = info.Reason, Message = status.Message,
+                Field = info.Metadata.TryGetValue("field", out var field) ? field : "",
+                ItemId = info.Metadata.TryGetValue("node", out var n) ? n : "",
+            });
         return ex.StatusCode switch
         {
-            Grpc.Core.StatusCode.InvalidArgument or Grpc.Core.StatusCode.FailedPrecondition => new AnalysisRejectedException(ex.Status.Detail, findings),
-            Grpc.Core.StatusCode.ResourceExhausted => new AnalysisRejectedException(ex.Status.Detail, findings, resourceLimit: true),
+            Grpc.Core.StatusCode.InvalidArgument => new AnalysisRejectedException(ex.Status.Detail, findings, RefusalKind.Invalid),
+            Grpc.Core.StatusCode.FailedPrecondition => new AnalysisRejectedException(ex.Status.Detail, findings, RefusalKind.Unsuitable),
+            Grpc.Core.StatusCode.ResourceExhausted => new AnalysisRejectedException(ex.Status.Detail, findings, RefusalKind.OverLimit),
             Grpc.Core.StatusCode.Unauthenticated => new AuthenticationFailedException($"the server wants an API key (--api-key or PATHSERVICE_API_KEY): {ex.Status.Detail}"),
             Grpc.Core.StatusCode.PermissionDenied => new AuthenticationFailedException($"the server refused the API key: {ex.Status.Detail}"),
             _ when TlsTrust.IsCertificateFailure(ex) => new BackendUnavailableException(

@@ -1,3 +1,4 @@
+using PathService.Application.Errors;
 using PathService.Contracts.V1;
 
 namespace PathService.Cli.Backends;
@@ -15,11 +16,25 @@ internal interface IAnalysisBackend : IAsyncDisposable
     Task<ImportIfcModelResponse> ImportIfcAsync(ImportIfcModelRequest request, CancellationToken ct);
 }
 
-/// <summary>A request the analysis refused (invalid input, a mechanism, a limit), with its findings.</summary>
-internal sealed class AnalysisRejectedException(string message, IReadOnlyList<Finding> findings, bool resourceLimit = false) : Exception(message)
+/// <summary>
+/// A request the analysis refused (invalid input, a mechanism, a limit, its time limit), with its findings: one per field
+/// at fault, each with its reason code and field path. Both backends give the same for the same request.
+/// </summary>
+internal sealed class AnalysisRejectedException(string message, IReadOnlyList<Finding> findings, RefusalKind kind) : Exception(message)
 {
     public IReadOnlyList<Finding> Findings { get; } = findings;
-    public bool ResourceLimit { get; } = resourceLimit;
+    public RefusalKind Kind { get; } = kind;
+    /// <summary>Refused under a limit (exit code 7): retrying the same request unchanged cannot help.</summary>
+    public bool ResourceLimit => Kind == RefusalKind.OverLimit;
+
+    /// <summary>The application layer's refusal: one finding per fault, or one for the refusal itself when it names none.</summary>
+    public static AnalysisRejectedException From(AnalysisRefusedException r)
+    {
+        var findings = r.Faults.Count > 0
+            ? r.Faults.Select(f => new Finding { Severity = FindingSeverity.Error, Code = f.Reason, Field = f.Field, ItemId = f.ItemId ?? "", Message = f.Message }).ToList()
+            : [new Finding { Severity = FindingSeverity.Error, Code = r.Reason, Field = r.Field, ItemId = r.ItemId ?? "", Message = r.Message }];
+        return new(r.Message, findings, r.Kind);
+    }
 }
 
 /// <summary>The server could not be reached or answered with a transport failure.</summary>

@@ -4,18 +4,18 @@ using Proto = PathService.Contracts.V1;
 
 namespace PathService.Contracts.Mapping;
 
-/// <summary>Proto solver controls → engine controls; an unset optional field keeps the engine's default.</summary>
+/// <summary>
+/// Proto solver controls → engine controls, literally: an unset optional field keeps the engine's default. Limits and
+/// caps (the default point budget, the time cap) are the application layer's policy, applied after the mapping.
+/// </summary>
 public static class ControlsMapper
 {
     /// <param name="c">The caller's controls; null = all defaults.</param>
-    /// <param name="defaultMaxPoints">Point budget when the caller sets none (the engine default capped by the server limit).</param>
-    /// <param name="maxWallTime">Server cap on the trace's wall time; null for none.</param>
-    public static SolverControls ToControls(Proto.SolverControls? c, int defaultMaxPoints, TimeSpan? maxWallTime)
+    public static SolverControls ToControls(Proto.SolverControls? c)
     {
         c ??= new Proto.SolverControls();
         var d = new SolverControls();
         TimeSpan? wall = c.WallTimeLimit is { } w ? ToTimeSpan(w) : null;
-        if (maxWallTime is { } cap && (wall is null || wall > cap)) wall = cap;
         return d with
         {
             Method = c.Method switch
@@ -41,7 +41,7 @@ public static class ControlsMapper
             MaxIterations = c.HasMaxIterations ? c.MaxIterations : d.MaxIterations,
             ResidualTolerance = c.HasResidualTolerance ? c.ResidualTolerance : d.ResidualTolerance,
             MaxCutsPerStep = c.HasMaxCutsPerStep ? c.MaxCutsPerStep : d.MaxCutsPerStep,
-            MaxPoints = c.HasMaxPoints ? c.MaxPoints : defaultMaxPoints,
+            MaxPoints = c.HasMaxPoints ? c.MaxPoints : d.MaxPoints,
             TargetLoadFactor = c.HasTargetLoadFactor ? c.TargetLoadFactor : null,
             TargetDisplacementDof = ModelMapper.ToDof(c.TargetDisplacementDof),
             TargetDisplacement = c.HasTargetDisplacement ? c.TargetDisplacement : null,

@@ -24,12 +24,12 @@ internal sealed class EntityAccess(StepFile file)
     }
 
     public bool IsSet(StepEntity e, int attribute) =>
-        attribute <= e.Attributes.Count && e.Attributes[attribute - 1] is not (StepNull or StepDerived);
+        attribute <= e.Attributes.Count && e.Attributes[attribute - 1] is not StepOmitted;
 
     public StepEntity? OptionalRef(StepEntity e, int attribute, string name, params string[] types) =>
         Raw(e, attribute, name) switch
         {
-            StepNull or StepDerived => null,
+            StepOmitted => null,
             StepRef r => CheckType(e, attribute, name, Get(r.Number), types),
             var v => throw Bad(e, attribute, name, $"must be a reference, found {v.Kind}"),
         };
@@ -60,7 +60,7 @@ internal sealed class EntityAccess(StepFile file)
     public string? OptionalString(StepEntity e, int attribute, string name) =>
         Raw(e, attribute, name) switch
         {
-            StepNull or StepDerived => null,
+            StepOmitted => null,
             StepString s => s.Value,
             StepTyped { Inner: StepString s } => s.Value,
             var v => throw Bad(e, attribute, name, $"must be a string, found {v.Kind}"),
@@ -69,7 +69,7 @@ internal sealed class EntityAccess(StepFile file)
     public string? OptionalEnum(StepEntity e, int attribute, string name) =>
         Raw(e, attribute, name) switch
         {
-            StepNull or StepDerived => null,
+            StepOmitted => null,
             StepEnum s => s.Value,
             var v => throw Bad(e, attribute, name, $"must be an enumeration (.VALUE.), found {v.Kind}"),
         };
@@ -77,7 +77,7 @@ internal sealed class EntityAccess(StepFile file)
     public double? OptionalNumber(StepEntity e, int attribute, string name) =>
         Raw(e, attribute, name) switch
         {
-            StepNull or StepDerived => null,
+            StepOmitted => null,
             var v => NumberOf(v) ?? throw Bad(e, attribute, name, $"must be a number, found {v.Kind}"),
         };
 

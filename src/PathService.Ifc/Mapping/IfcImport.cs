@@ -7,7 +7,7 @@ namespace PathService.Ifc.Mapping;
 /// Reads the structural analysis view of an IFC file (ISO 16739-1:2018, IfcStructuralAnalysisDomain; IFC4, and IFC2X3
 /// where it differs little) into the contract's StructureModel and LoadCase. The file is parsed as an ISO 10303-21
 /// exchange structure; a file that cannot be read throws <see cref="StepFormatException"/> naming the instance,
-/// the attribute and why; a wrong option throws <see cref="ArgumentException"/>; everything the mapper could not carry
+/// the attribute and why; an option the file cannot satisfy throws <see cref="IfcOptionException"/> naming the option; everything the mapper could not carry
 /// over is a finding.
 /// </summary>
 public static class IfcImport
@@ -18,9 +18,9 @@ public static class IfcImport
     {
         options ??= new IfcImportOptions();
         if (!UnitScales.ForceLabels.ContainsKey(options.ForceUnit))
-            throw new ArgumentException($"force unit '{options.ForceUnit}' is not one of {string.Join(", ", UnitScales.ForceLabels.Keys)}", nameof(options));
+            throw new IfcOptionException(IfcOption.ForceUnit, $"force unit '{options.ForceUnit}' is not one of {string.Join(", ", UnitScales.ForceLabels.Keys)}");
         if (!UnitScales.LengthLabels.ContainsKey(options.LengthUnit))
-            throw new ArgumentException($"length unit '{options.LengthUnit}' is not one of {string.Join(", ", UnitScales.LengthLabels.Keys)}", nameof(options));
+            throw new IfcOptionException(IfcOption.LengthUnit, $"length unit '{options.LengthUnit}' is not one of {string.Join(", ", UnitScales.LengthLabels.Keys)}");
         if (options.MaxBytes <= 0) throw new ArgumentException("MaxBytes must be positive", nameof(options));
 
         var file = StepReader.Read(stream, options.MaxBytes, SupportedSchemas);
@@ -90,7 +90,7 @@ public static class IfcImport
         {
             var constant = ChooseGroup(a, groups, constantName, loads, "constant", findings)!;
             if (reference is not null && constant.Number == reference.Number)
-                throw new ArgumentException($"the constant and the reference load group are the same (#{constant.Number})", nameof(options));
+                throw new IfcOptionException(IfcOption.ConstantLoadGroup, $"the constant and the reference load group are the same (#{constant.Number})");
             loadCase.Constant.AddRange(loads.Read(constant, nodeJoints));
         }
         return new IfcImportResult(model, loadCase, findings.Items, units.Note, file.Schema);
@@ -109,9 +109,9 @@ public static class IfcImport
         {
             var match = models.Where(m => Matches(a, m, key)).ToList();
             if (match.Count == 1) return match[0];
-            throw new ArgumentException(match.Count == 0
+            throw new IfcOptionException(IfcOption.AnalysisModel, match.Count == 0
                 ? $"no IfcStructuralAnalysisModel is named or identified '{key}'; the file has: {string.Join(", ", models.Select(m => Label(a, m)))}"
-                : $"{match.Count} analysis models match '{key}'; give the GlobalId", "options");
+                : $"{match.Count} analysis models match '{key}'; give the GlobalId");
         }
         if (models.Count == 1) return models[0];
         if (models.Count == 0)
@@ -119,7 +119,7 @@ public static class IfcImport
             findings.Warning("NO_ANALYSIS_MODEL", "", "", "the file has no IfcStructuralAnalysisModel; every structural item in it is read");
             return null;
         }
-        throw new ArgumentException($"the file holds {models.Count} analysis models; choose one by name or GlobalId: {string.Join(", ", models.Select(m => Label(a, m)))}", "options");
+        throw new IfcOptionException(IfcOption.AnalysisModel, $"the file holds {models.Count} analysis models; choose one by name or GlobalId: {string.Join(", ", models.Select(m => Label(a, m)))}");
     }
 
     private static List<StepEntity> ItemsOf(EntityAccess a, AnalysisView view, StepEntity? model, FindingSink findings)
@@ -155,9 +155,9 @@ public static class IfcImport
         {
             var match = groups.Where(g => Matches(a, g, key)).ToList();
             if (match.Count == 1) return match[0];
-            throw new ArgumentException(match.Count == 0
+            throw new IfcOptionException(role == "constant" ? IfcOption.ConstantLoadGroup : IfcOption.ReferenceLoadGroup, match.Count == 0
                 ? $"no load group of the analysis model is named or identified '{key}' (asked as the {role} load); available: {available}"
-                : $"{match.Count} load groups match '{key}'; give the GlobalId", "options");
+                : $"{match.Count} load groups match '{key}'; give the GlobalId");
         }
         var loaded = groups.Where(g => loads.PointActionCount(g) > 0).ToList();
         if (loaded.Count == 1) return loaded[0];

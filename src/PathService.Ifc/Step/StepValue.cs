@@ -10,18 +10,22 @@ public abstract record StepValue
     public abstract string Kind { get; }
 }
 
+/// <summary>A parameter that carries no value: "$" (<see cref="StepNull"/>) or "*" (<see cref="StepDerived"/>).</summary>
+public abstract record StepOmitted(char Symbol, string Meaning) : StepValue
+{
+    public override string Kind => $"{Symbol} ({Meaning})";
+}
+
 /// <summary>"$": an unset OPTIONAL attribute.</summary>
-public sealed record StepNull : StepValue
+public sealed record StepNull() : StepOmitted('$', "unset")
 {
     public static readonly StepNull Instance = new();
-    public override string Kind => "$ (unset)";
 }
 
 /// <summary>"*": an attribute redeclared as DERIVED in a subtype.</summary>
-public sealed record StepDerived : StepValue
+public sealed record StepDerived() : StepOmitted('*', "derived")
 {
     public static readonly StepDerived Instance = new();
-    public override string Kind => "* (derived)";
 }
 
 public sealed record StepInteger(long Value) : StepValue

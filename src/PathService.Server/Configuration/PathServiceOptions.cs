@@ -33,20 +33,22 @@ public sealed class PathServiceOptions
 }
 
 /// <summary>Protective limits; a request beyond them gets RESOURCE_EXHAUSTED.</summary>
+/// <remarks>The defaults of the limits that are properties of the request are the application layer's
+/// (<see cref="PathService.Application.AnalysisLimits.Default"/>), which the CLI's in-process backend uses too.</remarks>
 public sealed class LimitOptions
 {
-    public int MaxNodes { get; set; } = 20_000;
-    public int MaxBars { get; set; } = 60_000;
+    public int MaxNodes { get; set; } = PathService.Application.AnalysisLimits.Default.MaxNodes;
+    public int MaxBars { get; set; } = PathService.Application.AnalysisLimits.Default.MaxBars;
     /// <summary>Largest number of springs (ground springs plus link springs) in one model; springs are not counted against <see cref="MaxBars"/>.</summary>
-    public int MaxSprings { get; set; } = 20_000;
+    public int MaxSprings { get; set; } = PathService.Application.AnalysisLimits.Default.MaxSprings;
     /// <summary>Upper bound of controls.max_points; also the default when the caller leaves it unset and it is below 100.</summary>
-    public int MaxPoints { get; set; } = 5_000;
+    public int MaxPoints { get; set; } = PathService.Application.AnalysisLimits.Default.MaxPoints;
     /// <summary>Analyses (trace, linear, buckling) running at once; the machine's cores are the natural choice.</summary>
     public int MaxConcurrentAnalyses { get; set; } = 2;
     /// <summary>Retry delay suggested to a caller turned away because every analysis slot is busy.</summary>
     public double RetryAfterSeconds { get; set; } = 2;
     /// <summary>Largest mode_count of FindBucklingModes.</summary>
-    public int MaxBucklingModes { get; set; } = 20;
+    public int MaxBucklingModes { get; set; } = PathService.Application.AnalysisLimits.Default.MaxBucklingModes;
     /// <summary>
     /// Wall-time cap of one trace, and of one AnalyzeLinear or FindBucklingModes call, in seconds (0 = none); a caller's
     /// smaller wall_time_limit wins. The call holds its slot at most this long plus a short margin (5 %, 1 to 5 s), blocked writes included.
@@ -59,7 +61,7 @@ public sealed class LimitOptions
     /// <summary>Longest wait in the queue, in seconds; then RESOURCE_EXHAUSTED with RetryInfo.</summary>
     public double QueueTimeoutSeconds { get; set; } = 10;
     /// <summary>Memory budget of one analysis in MiB, estimated from the model before anything is factorised (0 = none).</summary>
-    public double MaxAnalysisMemoryMiB { get; set; } = 1024;
+    public double MaxAnalysisMemoryMiB { get; set; } = PathService.Application.AnalysisLimits.Default.MaxAnalysisMemoryMiB;
     /// <summary>Default number of analyses one caller (API key) may run at once; 0 = no per-caller cap. A key may override it.</summary>
     public int MaxConcurrentAnalysesPerCaller { get; set; }
     /// <summary>

@@ -1,9 +1,7 @@
 using Google.Protobuf.WellKnownTypes;
 using Google.Rpc;
 using Grpc.Core;
-using PathService.Engine;
-using PathService.Engine.Model;
-using PathService.Contracts.Mapping;
+using PathService.Application.Errors;
 
 namespace PathService.Server.Errors;
 
@@ -19,69 +17,55 @@ public static class RpcErrors
     /// <summary>Field violations listed in one error; CheckModel returns every finding instead.</summary>
     public const int MaxViolations = 50;
 
-    /// <summary>INVALID_ARGUMENT with one field violation per error finding (warnings are left out).</summary>
-    public static RpcException Invalid(IEnumerable<ValidationFinding> findings)
+    /// <summary>
+    /// The status of a refusal of the application layer: INVALID_ARGUMENT with one field violation per fault (Invalid);
+    /// FAILED_PRECONDITION with ErrorInfo (reason, and the field or the mechanism's node and direction) and the faults as
+    /// field violations (Unsuitable); RESOURCE_EXHAUSTED with QuotaFailure naming the limit and the field (OverLimit);
+    /// DEADLINE_EXCEEDED (OutOfTime).
+    /// </summary>
+    public static RpcException From(AnalysisRefusedException r) => r.Kind switch
     {
-        var errors = findings.Where(f => f.Severity == FindingSeverity.Error).ToList();
+        RefusalKind.Invalid => Build(StatusCode.InvalidArgument, r.Message, Violations(r.Faults)),
+        RefusalKind.Unsuitable => r.Faults.Count == 0
+            ? Build(StatusCode.FailedPrecondition, r.Message, Info(r))
+            : Build(StatusCode.FailedPrecondition, r.Message, Info(r), Violations(r.Faults)),
+        RefusalKind.OverLimit => Build(StatusCode.ResourceExhausted, r.Message,
+            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = r.Subject ?? r.Field, Description = r.Message } } },
+            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = r.Field, Description = r.Message } } }),
+        _ => new RpcException(new Grpc.Core.Status(StatusCode.DeadlineExceeded, r.Message)),
+    };
+
+    /// <summary>ErrorInfo of an Unsuitable refusal: its reason, its field, and its details (a mechanism's node and direction).</summary>
+    private static ErrorInfo Info(AnalysisRefusedException r)
+    {
+        var info = new ErrorInfo { Reason = r.Reason, Domain = Domain };
+        if (r.Field.Length > 0) info.Metadata["field"] = Cut(r.Field, 200);
+        foreach (var (key, value) in r.Details) info.Metadata[key] = LogText.Cut(value);
+        return info;
+    }
+
+    /// <summary>
+    /// One field violation per fault. The details travel in a trailer; HTTP/2 clients refuse header blocks beyond 64 KiB
+    /// (and a model with thousands of duplicated entries has thousands of findings), so only the first ones are listed;
+    /// the message gives the count. Each entry is cut to a few hundred characters and the list stops at about 16 KiB, so
+    /// that even a model with huge ids cannot push the trailer past the limit.
+    /// </summary>
+    private static BadRequest Violations(IReadOnlyList<FieldFault> faults)
+    {
         var bad = new BadRequest();
-        // The details travel in a trailer; HTTP/2 clients refuse header blocks beyond 64 KiB (and a model with thousands
-        // of duplicated entries has thousands of findings), so only the first ones are listed; the message gives the count.
-        // Each entry is cut to a few hundred characters and the list stops at about 16 KiB, so that even a model with
-        // huge ids cannot push the trailer past the limit.
         int budget = 16 * 1024;
-        foreach (var f in errors.Take(MaxViolations))
+        foreach (var f in faults.Take(MaxViolations))
         {
             var v = new BadRequest.Types.FieldViolation
             {
-                Field = Cut(FieldPaths.ToRequestPath(f.FieldPath), 200), Description = Cut(LogText.CutQuoted(Describe(f)), 400),
-                Reason = FieldPaths.CodeName(f.Code), // the finding's code, the same string CheckModel reports as Finding.code
+                Field = Cut(f.Field, 200), Description = Cut(LogText.CutQuoted(f.Message), 400), Reason = f.Reason,
             };
             budget -= v.Field.Length + v.Description.Length + v.Reason.Length + 12;
             if (budget < 0) break;
             bad.FieldViolations.Add(v);
         }
-        string first = errors.Count > 0 ? Describe(errors[0]) : "the request is invalid";
-        string message = errors.Count > 1 ? $"{first} (and {errors.Count - 1} more)" : first;
-        return Build(StatusCode.InvalidArgument, message, bad);
+        return bad;
     }
-
-    /// <summary>
-    /// INVALID_ARGUMENT for one request field the engine does not see (e.g. mode_count), with its reason code
-    /// (docs/api.md, "Error reasons").
-    /// </summary>
-    public static RpcException InvalidField(string field, string reason, string description) =>
-        Build(StatusCode.InvalidArgument, description, new BadRequest
-        {
-            FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description, Reason = reason } },
-        });
-
-    /// <summary>FAILED_PRECONDITION for a structure that is a mechanism: the model is well-formed but cannot carry load.</summary>
-    public static RpcException Mechanism(MechanismException ex) =>
-        Build(StatusCode.FailedPrecondition, ex.Message, new ErrorInfo
-        {
-            Reason = "MECHANISM",
-            Domain = Domain,
-            Metadata = { ["node"] = LogText.Cut(ex.NodeId), ["direction"] = ex.Direction.ToString().ToLowerInvariant() },
-        });
-
-    /// <summary>
-    /// FAILED_PRECONDITION for an input fault the engine found while computing (any <see cref="AnalysisInputException"/>):
-    /// ErrorInfo with the engine's reason and the field, and a field violation naming the field.
-    /// </summary>
-    public static RpcException Input(AnalysisInputException ex) =>
-        Build(StatusCode.FailedPrecondition, ex.Message,
-            new ErrorInfo { Reason = ex.Reason, Domain = Domain, Metadata = { ["field"] = Cut(ex.Field, 200) } },
-            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = Cut(ex.Field, 200), Description = Cut(ex.Message, 400), Reason = ex.Reason } } });
-
-    /// <summary>FAILED_PRECONDITION for a start state that the requested analysis cannot handle (e.g. already unstable).</summary>
-    public static RpcException Precondition(string reason, string message) =>
-        Build(StatusCode.FailedPrecondition, message, new ErrorInfo { Reason = reason, Domain = Domain });
-
-    /// <summary>RESOURCE_EXHAUSTED for a request above a configured size limit; retrying the same request cannot help.</summary>
-    public static RpcException TooLarge(string field, string subject, string description) =>
-        Build(StatusCode.ResourceExhausted, description,
-            new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = subject, Description = description } } },
-            new BadRequest { FieldViolations = { new BadRequest.Types.FieldViolation { Field = field, Description = description } } });
 
     /// <summary>RESOURCE_EXHAUSTED when every analysis slot is taken, with the delay after which a retry is sensible.</summary>
     public static RpcException Busy(int capacity, TimeSpan retryAfter, int queue = 0) =>
@@ -102,15 +86,6 @@ public static class RpcErrors
             new QuotaFailure { Violations = { new QuotaFailure.Types.Violation { Subject = $"caller:{caller}", Description = $"at most {max} analyses at once per caller" } } });
 
     private static string Cut(string s, int max) => s.Length <= max ? s : s[..max] + "…";
-
-    private static string Describe(ValidationFinding f) =>
-        f.ItemId is { Length: > 0 } id && !f.Message.Contains(id, StringComparison.Ordinal) ? $"{f.Message} ('{LogText.Cut(id)}')" : f.Message;
-
-    /// <summary>FAILED_PRECONDITION when the result of a well-formed model is not finite (its numbers overflow double precision).</summary>
-    public static RpcException NonFinite(string where) =>
-        Build(StatusCode.FailedPrecondition,
-            $"the analysis produced a non-finite value ({where}); the model's magnitudes (moduli, areas, loads, coordinates) overflow double precision",
-            new ErrorInfo { Reason = "NON_FINITE_RESULT", Domain = Domain, Metadata = { ["field"] = where } });
 
     private static RpcException Build(StatusCode code, string message, params Google.Protobuf.IMessage[] details)
     {

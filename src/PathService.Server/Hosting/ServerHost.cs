@@ -91,6 +91,7 @@ public static class ServerHost
             o.Services.Map(HealthServiceName, r => r.Tags.Contains("analysis"));
         });
         builder.Services.AddSingleton<RequestLimits>();
+        builder.Services.AddSingleton(sp => new PathService.Application.AnalysisApplication(sp.GetRequiredService<RequestLimits>().Analysis));
         builder.Services.AddSingleton(sp =>
         {
             var l = sp.GetRequiredService<IOptions<PathServiceOptions>>().Value.Limits;

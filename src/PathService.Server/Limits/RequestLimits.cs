@@ -1,12 +1,12 @@
 using Microsoft.Extensions.Options;
-using PathService.Contracts.V1;
+using PathService.Application;
 using PathService.Server.Configuration;
-using PathService.Server.Errors;
 
 namespace PathService.Server.Limits;
 
 /// <summary>
-/// Size limits checked before any model is built, so that an oversized request costs the server nothing but parsing.
+/// The configured limits: the server's own (slots, queue, stalled writes) in <see cref="Values"/>, and those that are
+/// properties of the request (sizes, counts, memory, time caps) as the application layer takes them, in <see cref="Analysis"/>.
 /// </summary>
 public sealed class RequestLimits(IOptions<PathServiceOptions> options)
 {
@@ -14,32 +14,19 @@ public sealed class RequestLimits(IOptions<PathServiceOptions> options)
 
     public LimitOptions Values => _l;
 
-    /// <summary>Throws RESOURCE_EXHAUSTED when the model has more nodes, bars, springs or supports than the server accepts.</summary>
-    public void CheckModelSize(StructureModel? model)
+    /// <summary>The application layer's limits from this configuration (IFC files are bounded by the request size limit).</summary>
+    public AnalysisLimits Analysis { get; } = new()
     {
-        if (model is null) return;
-        if (model.Nodes.Count > _l.MaxNodes)
-            throw RpcErrors.TooLarge("model.nodes", "model.nodes", $"the model has {model.Nodes.Count} nodes; this server accepts at most {_l.MaxNodes}");
-        if (model.Bars.Count > _l.MaxBars)
-            throw RpcErrors.TooLarge("model.bars", "model.bars", $"the model has {model.Bars.Count} bars; this server accepts at most {_l.MaxBars}");
-        // Springs have a limit of their own (Limits:MaxSprings): ground and link springs together.
-        int springs = model.GroundSprings.Count + model.LinkSprings.Count;
-        if (springs > _l.MaxSprings)
-            throw RpcErrors.TooLarge(model.GroundSprings.Count >= model.LinkSprings.Count ? "model.ground_springs" : "model.link_springs", "model.springs",
-                $"the model has {springs} springs ({model.GroundSprings.Count} ground springs, {model.LinkSprings.Count} link springs); this server accepts at most {_l.MaxSprings} springs");
-        if (model.Supports.Count > 3 * _l.MaxNodes)
-            throw RpcErrors.TooLarge("model.supports", "model.supports", $"the model has {model.Supports.Count} supports; this server accepts at most {3 * _l.MaxNodes}");
-    }
+        MaxNodes = options.Value.Limits.MaxNodes,
+        MaxBars = options.Value.Limits.MaxBars,
+        MaxSprings = options.Value.Limits.MaxSprings,
+        MaxPoints = options.Value.Limits.MaxPoints,
+        MaxBucklingModes = options.Value.Limits.MaxBucklingModes,
+        MaxIfcBytes = options.Value.Limits.MaxRequestBytes,
+        MaxAnalysisMemoryMiB = options.Value.Limits.MaxAnalysisMemoryMiB,
+        MaxAnalysisTime = Seconds(options.Value.Limits.MaxTraceSeconds),
+        MaxSweepTime = Seconds(options.Value.Limits.MaxSweepSeconds),
+    };
 
-    /// <summary>Throws RESOURCE_EXHAUSTED when the caller asks for more points than the server produces in one trace.</summary>
-    public void CheckControls(SolverControls? controls)
-    {
-        if (controls is { HasMaxPoints: true } && controls.MaxPoints > _l.MaxPoints)
-            throw RpcErrors.TooLarge("controls.max_points", "controls.max_points", $"max_points is {controls.MaxPoints}; this server traces at most {_l.MaxPoints} points per call");
-    }
-
-    /// <summary>The engine's default point budget, capped by the server limit.</summary>
-    public int DefaultMaxPoints => Math.Min(100, _l.MaxPoints);
-
-    public TimeSpan? MaxTraceTime => _l.MaxTraceSeconds > 0 ? TimeSpan.FromSeconds(_l.MaxTraceSeconds) : null;
+    private static TimeSpan? Seconds(double s) => s > 0 ? TimeSpan.FromSeconds(s) : null;
 }

@@ -1,32 +1,29 @@
 using System.Diagnostics;
 using Grpc.Core;
-using PathService.Contracts.Mapping;
+using PathService.Application.Errors;
 using PathService.Contracts.V1;
-using PathService.Engine;
-using PathService.Engine.Model;
 using PathService.Server.Errors;
 using PathService.Server.Hosting;
 using PathService.Server.Limits;
 using PathService.Server.Security;
 using PathService.Server.Telemetry;
-using FindingSeverity = PathService.Engine.Model.FindingSeverity;
 
 namespace PathService.Server.Services;
 
 /// <summary>
-/// What every analysis RPC shares, whichever gRPC service it belongs to: the span and counters, shutdown, size and
-/// memory limits, the caller's cap, the bounded queue, and the translation of engine exceptions into statuses.
+/// What every analysis RPC shares, whichever gRPC service it belongs to: the span and counters, shutdown, the caller's
+/// cap, the bounded queue, the call's time bound, and the translation of the application layer's refusals into statuses.
 /// </summary>
 public sealed class AnalysisFrame(
     RequestLimits limits, AnalysisGate gate, CallerLimiter callers, ShutdownCoordinator shutdown,
     PathServiceTelemetry telemetry, ILogger<AnalysisFrame> logger)
 {
     /// <summary>
-    /// Common frame of every analysis: one span, the started/completed/failed counters, the limits, an analysis slot,
-    /// and the translation of engine exceptions into status codes. Everything that can refuse a request runs before
-    /// the slot is taken, in this order: shutdown, size limits, <paramref name="prepare"/> (mapping, validation,
-    /// cheap memory bound; it returns the analysis itself), the caller's own cap, the bounded queue. Heavy preparation
-    /// (shaping an imperfection by buckling modes, the exact memory estimate) belongs to the analysis, inside the slot.
+    /// Common frame of every analysis: one span, the started/completed/failed counters, an analysis slot, and the
+    /// translation of refusals into status codes. Everything that can refuse a request runs before the slot is taken,
+    /// in this order: shutdown, <paramref name="prepare"/> (the application layer's Prepare: limits, mapping, validation;
+    /// it returns the analysis itself), the caller's own cap, the bounded queue. Heavy preparation (shaping an
+    /// imperfection by buckling modes, the exact memory estimate) belongs to the analysis's run, inside the slot.
     /// The analysis gets an <see cref="AnalysisCall"/>: a token that the call's cancellation, its deadline, the end of a
     /// shutdown's grace period and the analysis's own time bound all cancel, and writes that cannot outlast that bound;
     /// it returns the outcome tag. An analysis stopped by its time bound ends with DEADLINE_EXCEEDED.
@@ -53,7 +50,6 @@ public sealed class AnalysisFrame(
         try
         {
             ThrowIfDraining();
-            limits.CheckModelSize(model);
             var run = prepare();
             using var perCaller = caller.MaxConcurrentAnalyses > 0
                 ? callers.TryEnter(caller.Name, caller.MaxConcurrentAnalyses) ?? throw RpcErrors.CallerBusy(caller.Name, caller.MaxConcurrentAnalyses, Retry)
@@ -112,31 +108,6 @@ public sealed class AnalysisFrame(
     }
 
     /// <summary>
-    /// Before the slot: true when the cheap upper bound of the memory (a dense factor) exceeds the budget, so the exact
-    /// estimate (ordering and symbolic analysis) must follow inside the slot with <see cref="CheckMemory"/>.
-    /// </summary>
-    public bool MemoryNeedsExactEstimate(StructuralModel model, int extraVectors)
-    {
-        double mib = limits.Values.MaxAnalysisMemoryMiB;
-        return mib > 0 && AnalysisMemory.Upper(model, extraVectors) > (long)(mib * 1024 * 1024);
-    }
-
-    /// <summary>
-    /// RESOURCE_EXHAUSTED when the estimated memory of the analysis exceeds the configured budget. Runs the symbolic
-    /// analysis when the cheap bound is above the budget: call it inside the slot, with the analysis's token.
-    /// </summary>
-    public void CheckMemory(StructuralModel model, int extraVectors, CancellationToken ct = default)
-    {
-        double mib = limits.Values.MaxAnalysisMemoryMiB;
-        if (mib <= 0) return;
-        long budget = (long)(mib * 1024 * 1024);
-        var estimate = AnalysisMemory.Of(model, budget, extraVectors, ct);
-        if (estimate.Bytes > budget)
-            throw RpcErrors.TooLarge("model", "analysis_memory",
-                $"the analysis of this model needs about {estimate.Bytes / (1024.0 * 1024):F0} MiB ({estimate.FactorEntries} factor entries for {model.Dofs.FreeCount} free DOFs); this server allows {mib:F0} MiB per analysis");
-    }
-
-    /// <summary>
     /// Maps a failure to the status the caller should see; null for a genuine server fault (then INTERNAL). Anything
     /// thrown once the call itself is over (the caller cancelled, its deadline passed, the connection went away) is
     /// CANCELLED or DEADLINE_EXCEEDED whatever its type: a write to a stream whose call has ended throws
@@ -153,7 +124,7 @@ public sealed class AnalysisFrame(
         bool deadline = DeadlinePassed(context);
         bool callOver = call.IsCancellationRequested || deadline;
         bool endOfCall = ex is OperationCanceledException or IOException or ObjectDisposedException or RpcException
-            || (ex is InvalidOperationException && ex is not AnalysisInputException);
+            || ex is InvalidOperationException;
         if (endOfCall && (callOver || ex is OperationCanceledException or RpcException))
         {
             if (abort.IsCancellationRequested && !call.IsCancellationRequested)
@@ -163,13 +134,8 @@ public sealed class AnalysisFrame(
             if (ex is RpcException rc) return rc;
             return new RpcException(new Status(StatusCode.Cancelled, "the call was cancelled"));
         }
-        return ex switch
-        {
-            ModelValidationException v => RpcErrors.Invalid(v.Findings),
-            MechanismException m => RpcErrors.Mechanism(m),
-            AnalysisInputException a => RpcErrors.Input(a),
-            _ => null,
-        };
+        // Every input fault reaches us as the application layer's refusal; anything else is a server fault.
+        return ex is AnalysisRefusedException refusal ? RpcErrors.From(refusal) : null;
     }
 
     /// <summary>
@@ -180,14 +146,6 @@ public sealed class AnalysisFrame(
         context.Deadline != DateTime.MaxValue && context.Deadline <= DateTime.UtcNow + DeadlineSlack;
 
     private static readonly TimeSpan DeadlineSlack = TimeSpan.FromMilliseconds(200);
-
-    public static StructuralModel BuildModel(StructureModel? proto, LoadCase? loads, Imperfection? imperfection = null)
-    {
-        var definition = ModelMapper.ToDefinition(proto, loads);
-        var findings = ModelValidator.Validate(definition);
-        if (findings.Any(f => f.Severity == FindingSeverity.Error)) throw RpcErrors.Invalid(findings);
-        return StructuralModel.Create(ImperfectionMapper.Apply(definition, imperfection));
-    }
 
     private static string Truncate(string? s, int max = 64) => LogText.Cut(s, max);
 }

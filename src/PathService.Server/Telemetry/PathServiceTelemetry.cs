@@ -213,12 +213,13 @@ public sealed class PathServiceTelemetry
         foreach (var t in RpcTags(method)) activity.SetTag(t.Key, t.Value);
     }
 
-    /// <summary>Metrics and span events of one engine event, recorded on the compute thread as the engine produces it.</summary>
-    public void Record(PathEvent e, Activity? activity)
+    /// <summary>Metrics and span events of one trace message, recorded on the compute thread as the analysis produces it.</summary>
+    public void Record(Proto.TracePathResponse m, Activity? activity)
     {
-        switch (e)
+        switch (m.UpdateCase)
         {
-            case PathPoint p:
+            case Proto.TracePathResponse.UpdateOneofCase.Point:
+                var p = m.Point;
                 if (p.Index > 0)
                 {
                     Steps.Add(1);
@@ -229,27 +230,30 @@ public sealed class PathServiceTelemetry
                     ["pathservice.point.index"] = p.Index, ["pathservice.point.load_factor"] = p.LoadFactor, ["pathservice.point.iterations"] = p.Iterations,
                 }));
                 break;
-            case StepCut c:
-                string reason = Label(c);
+            case Proto.TracePathResponse.UpdateOneofCase.StepCut:
+                var c = m.StepCut;
+                string reason = Labels.Of(c.Reason);
                 StepCuts.Add(1, new KeyValuePair<string, object?>(Attributes.CutReason, reason));
                 activity?.AddEvent(new ActivityEvent("pathservice.step.cut", tags: new ActivityTagsCollection
                 {
                     ["pathservice.step.index"] = c.Step, ["pathservice.step.attempt"] = c.Attempt, [Attributes.CutReason] = reason,
                 }));
                 break;
-            case CriticalPoint cp:
-                string kind = Label(cp.Kind);
+            case Proto.TracePathResponse.UpdateOneofCase.CriticalPoint:
+                var cp = m.CriticalPoint;
+                string kind = Labels.Of(cp.Kind);
                 CriticalPoints.Add(1, new KeyValuePair<string, object?>(Attributes.CriticalPointKind, kind));
                 activity?.AddEvent(new ActivityEvent("pathservice.critical_point", tags: new ActivityTagsCollection
                 {
                     [Attributes.CriticalPointKind] = kind, ["pathservice.critical_point.load_factor"] = cp.LoadFactor,
                 }));
                 break;
-            case PathSummary s:
-                if (s.Reason == StopReason.Diverged) Divergences.Add(1);
-                FactorizationDuration.Record(s.FactorizationTime.TotalSeconds);
+            case Proto.TracePathResponse.UpdateOneofCase.Summary:
+                var s = m.Summary;
+                if (s.Reason == Proto.StopReason.Diverged) Divergences.Add(1);
+                FactorizationDuration.Record(s.FactorizationTime?.ToTimeSpan().TotalSeconds ?? 0);
                 SolveRefinements.Add(s.Refinements);
-                activity?.SetTag(Attributes.StopReason, Label(s.Reason));
+                activity?.SetTag(Attributes.StopReason, Labels.Of(s.Reason));
                 activity?.SetTag("pathservice.points", s.Points);
                 break;
         }

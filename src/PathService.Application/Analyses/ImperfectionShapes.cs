@@ -4,13 +4,14 @@ using PathService.Engine.Model;
 using PathService.Engine.Stability;
 using Proto = PathService.Contracts.V1;
 
-namespace PathService.Contracts.Mapping;
+namespace PathService.Application.Analyses;
 
 /// <summary>
 /// Turns an <see cref="Proto.Imperfection"/> into imperfection shapes of the engine (buckling modes of the perfect
-/// model, or an explicit per-node shape) and amplitudes in the model's length unit.
+/// model, or an explicit per-node shape) and amplitudes in the model's length unit. Validation and orchestration (it
+/// runs a buckling analysis when the shape is given by modes), so it lives in the application layer, not the mapping.
 /// </summary>
-public static class ImperfectionMapper
+public static class ImperfectionShapes
 {
     public const int MaxModeNumber = 20;
 

@@ -2,7 +2,7 @@ using PathService.Engine.Assembly;
 using PathService.Engine.Model;
 using PathService.Engine.Sparse;
 
-namespace PathService.Server.Limits;
+namespace PathService.Application.Validation;
 
 /// <summary>
 /// Estimate of the memory one analysis needs, computed from the model before anything is factorised. The part that

@@ -2,18 +2,20 @@ using System.Collections;
 using Google.Protobuf;
 using Google.Protobuf.Reflection;
 
-namespace PathService.Server.Errors;
+using PathService.Application.Errors;
+
+namespace PathService.Application.Validation;
 
 /// <summary>
 /// No response carries NaN or ±∞: the engine rejects non-finite iterates, but a model with extreme magnitudes can
-/// still overflow in a linear solve or a derived quantity. A response with such a number is replaced by
-/// FAILED_PRECONDITION (<see cref="RpcErrors.NonFinite"/>).
+/// still overflow in a linear solve or a derived quantity. A response with such a number is refused
+/// (<see cref="Refusals.NonFinite"/>, reason NON_FINITE_RESULT) instead of reaching the caller, in every mode.
 /// </summary>
 public static class FiniteGuard
 {
     public static void ThrowIfNonFinite(IMessage message)
     {
-        if (Find(message, "") is { } where) throw RpcErrors.NonFinite(where);
+        if (Find(message, "") is { } where) throw Refusals.NonFinite(where);
     }
 
     /// <summary>Path of the first non-finite double in the message tree, or null.</summary>

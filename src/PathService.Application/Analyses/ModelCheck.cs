@@ -1,22 +1,24 @@
+using PathService.Contracts.Mapping;
 using PathService.Engine.Model;
 using Proto = PathService.Contracts.V1;
 
-namespace PathService.Contracts.Mapping;
+namespace PathService.Application.Analyses;
 
 /// <summary>
-/// CheckModel's answer, shared by the server and the CLI's in-process mode: every validation finding of the model
-/// and loads, and of the controls when the model itself is valid, listed up to a cap with one warning for the rest.
+/// CheckModel's answer: every validation finding of the model and loads, and of the controls (the defaults when none
+/// are given, under the same limits as a trace) when the model itself is valid, listed up to a cap with one warning
+/// for the rest.
 /// </summary>
-public static class ModelCheck
+internal static class ModelCheck
 {
     public const int MaxFindings = 1000;
 
-    public static (Proto.CheckModelResponse Response, int Errors, int Warnings) Run(Proto.CheckModelRequest request, int defaultMaxPoints, TimeSpan? maxTraceTime)
+    public static Proto.CheckModelResponse Run(Proto.CheckModelRequest request, AnalysisLimits limits)
     {
         var definition = ModelMapper.ToDefinition(request.Model, request.LoadCase);
         var findings = ModelValidator.Validate(definition).ToList();
-        if (request.Controls is not null && findings.All(f => f.Severity != FindingSeverity.Error))
-            findings.AddRange(ControlsMapper.ToControls(request.Controls, defaultMaxPoints, maxTraceTime).Validate(StructuralModel.Create(definition)));
+        if (findings.All(f => f.Severity != FindingSeverity.Error))
+            findings.AddRange(Inputs.ControlsOf(request.Controls, limits).Validate(StructuralModel.Create(definition)));
         var response = new Proto.CheckModelResponse
         {
             Valid = findings.All(f => f.Severity != FindingSeverity.Error),
@@ -30,6 +32,6 @@ public static class ModelCheck
                 Severity = Proto.FindingSeverity.Warning, Code = "FINDINGS_TRUNCATED", Field = "model",
                 Message = $"{findings.Count - MaxFindings} more findings are not listed ({findings.Count} in all); fix the ones above and check again",
             });
-        return (response, findings.Count(f => f.Severity == FindingSeverity.Error), findings.Count(f => f.Severity == FindingSeverity.Warning));
+        return response;
     }
 }
