@@ -94,7 +94,7 @@ async Task<int> Overhead(string[] a)
     {
         var clock = Stopwatch.StartNew();
         var sm = StructuralModel.Create(ModelMapper.ToDefinition(model, loads));
-        var c = ControlsMapper.ToControls(controls, 100, null);
+        var c = ControlsMapper.ToControls(controls);
         int n = 0;
         double sink = 0;
         foreach (var e in new PathTracer(sm, c).Trace())
