@@ -141,4 +141,10 @@ public sealed record PathSummary(
     /// above 1e-12 (<see cref="Sparse.RefinedFactorization"/>); 0 in a well-conditioned trace.
     /// </summary>
     public int Refinements { get; init; }
+
+    /// <summary>Wall time spent resolving steps into their critical points (location, modes, full states and
+    /// sensitivities at the points), the factorisations made for it and their time; zero without critical points.</summary>
+    public TimeSpan CriticalPointTime { get; init; }
+    public int CriticalPointFactorizations { get; init; }
+    public TimeSpan CriticalPointFactorizationTime { get; init; }
 }
