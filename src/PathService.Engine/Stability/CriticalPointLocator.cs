@@ -12,8 +12,8 @@ namespace PathService.Engine.Stability;
 /// a parameter", Numer. Math. 6, 1964 (from memory)), dK/dt by a central difference of tangents along the path tangent
 /// u' = λ'K⁻¹F_ref, so no element needs a second derivative. Together with equilibrium on the hyperplane this is the
 /// extended system of Wriggers and Simo (IJNME 30, 1990) restricted to the primary path, which keeps it regular at a
-/// symmetric bifurcation (see docs/theory.md, "Critical points"). The last Newton correction is applied along the
-/// path tangent without a further factorisation. Where Newton's step leaves the bracket, the Illinois variant of regula
+/// symmetric bifurcation (see docs/theory.md, "Critical points"). The eigenvalue tracked is the one that crosses: of the
+/// crossing's sign, nearest zero (Lanczos on K⁻¹), never a soft mode of the other sign. Where Newton's step leaves the bracket, the Illinois variant of regula
 /// falsi (Dowell and Jarratt 1971) or bisection takes over; the inertia of every trial keeps the root bracketed, and a
 /// trial whose count lies outside the bracket's two counts splits the bracket (bisection on the inertia), so that each
 /// reported point accounts for its own change of the count. A change of k at one λ (no trial separates it) is one
@@ -27,8 +27,6 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     public sealed record Result(double LoadFactor, double[] Displacement, double Eigenvalue, double[][] ModesFree,
         int NegativeBefore, int NegativeAfter, bool Located, double Tolerance, string Note, bool? LoadTurns)
     {
-        /// <summary>The factorised trial state the located state was reached from by the last Newton correction (null: none).</summary>
-        public double[]? FactoredNear { get; init; }
         /// <summary>The chord of the step could not order the states (the path turns back within it): shorten the step.</summary>
         public bool Folded { get; init; }
     }
@@ -50,8 +48,6 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         /// <summary>dμ/dt and dλ/dt along the path at this state, and the path tangent du/dt (free DOFs); NaN/null when not known.</summary>
         public double MuRate = double.NaN, LambdaRate = double.NaN;
         public double[]? PathTangent;
-        /// <summary>For a state reached by the last Newton correction along the path tangent: the factorised trial it came from.</summary>
-        public State? Origin;
         public double T = t;
         public double[] U = u;
         public double Lambda = lambda;
@@ -162,8 +158,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             int k = Math.Abs(r.NegativeAfter - p.NegativeBefore);
             double[][] modes = [.. p.ModesFree, .. r.ModesFree];
             double mu = keep.Eigenvalue;
-            bool inPlace = _factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot &&
-                           (ReferenceEquals(_factored.U, keep.Displacement) || ReferenceEquals(_factored.U, keep.FactoredNear));
+            bool inPlace = _factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot && ReferenceEquals(_factored.U, keep.Displacement);
             if (inPlace || sys.Refactor(keep.Displacement) != LdlStatus.ZeroPivot)
             {
                 var (values, vectors) = NearNullMode.ComputeBlock(sys, k, keep.ModesFree[0], absoluteTolerance: _blockAbsolute);
@@ -268,17 +263,12 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
                 break;
             }
 
-            // The Newton estimate, with the last correction applied along the path tangent; the quadratic model otherwise.
-            var (corrected, newtonEstimate) = Corrected(trial, previousBest, lo, hi);
+            // The quadratic model's estimate, or Newton's for the trial itself when smaller: the λ change of its own Newton
+            // correction δt = −μ/μ' (which is the error to first order) plus that correction's own uncertainty.
             estimate = ErrorEstimate(history, lo, hi, best);
-            if (corrected is not null && !(newtonEstimate > estimate))
-            {
-                best = corrected;
-                estimate = newtonEstimate;
-            }
+            if (best == trial && NewtonEstimate(trial, previousBest, lo, hi) is { } newton && newton < estimate) estimate = newton;
             // Iterate to a third of the asked tolerance: the estimate is a model's, so keep a margin below the promise.
             if (estimate <= Target * tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; break; }
-            if (best.Origin is not null) best = trial;
             if (hi.T - lo.T <= 4 * double.Epsilon * Math.Max(1.0, Math.Abs(hi.T)) || hi.T - lo.T < 1e-15)
             {
                 note = $"the bracket cannot be narrowed further (width {hi.T - lo.T:G3} of the step); estimated λ error {estimate:G3}";
@@ -301,15 +291,15 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         if (k > 1 && !exact)
         {
             // Multiplicity k: k modes of the eigenvalues nearest zero at the located state (block inverse iteration), with
-            // the factorisation in place when it is that state's or the trial's it was corrected from (modes to O(δt)).
-            bool inPlace = _factored is not null && (_factored == best || _factored == best.Origin) && sys.Factor.Status != LdlStatus.ZeroPivot;
+            // the factorisation in place when it is that state's.
+            bool inPlace = _factored == best && sys.Factor.Status != LdlStatus.ZeroPivot;
             if (!inPlace && sys.Refactor(best.U) == LdlStatus.ZeroPivot) { _factored = null; }
             else
             {
                 if (!inPlace) _factored = best;
                 var (values, vectors) = NearNullMode.ComputeBlock(sys, k, best.Mode, absoluteTolerance: _blockAbsolute);
                 modes = vectors;
-                mu = best.Origin is null ? values[0] : best.Mu;
+                mu = values[0];
             }
         }
         // λ turns back across the bracket (a limit point) when dλ/dt changes sign between its ends.
@@ -331,7 +321,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             }
         }
         results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
-            { Folded = folded, FactoredNear = best.Origin?.U });
+            { Folded = folded });
     }
 
     /// <summary>The trial as an end of the bracket with counts (countLo, countHi): its eigenpair re-picked with the sign
@@ -364,30 +354,25 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     }
 
     /// <summary>
-    /// The state reached from a trial by its Newton correction δt = −μ/μ' along the path tangent, u + δt u', λ + δt λ'
-    /// (an equilibrium state to O(δt²), no factorisation), and its estimated λ error: the remainder of Newton's step,
-    /// c_μ δt²/|μ'|, and μ''s assumed relative error, both times |λ'|, plus c_λ δt², where c_μ and c_λ are the observed
+    /// Estimated |λ(t*) − λ_trial| from the trial's Newton correction δt = −μ/μ': |λ'δt| plus the remainder of Newton's
+    /// step (c_μ δt²/|μ'| and μ''s assumed relative error, times |λ'|) plus c_λ δt², where c_μ and c_λ are the observed
     /// departures of μ and λ at the trial from the Taylor line of the previous state (½|f''| over that interval), doubled.
-    /// Null when the trial has no rate, no previous state with a rate, or the corrected point leaves the bracket.
+    /// Null when the trial or the previous state has no rate, or the root leaves the bracket.
     /// </summary>
-    private (State?, double) Corrected(State trial, State previous, State lo, State hi)
+    private static double? NewtonEstimate(State trial, State previous, State lo, State hi)
     {
-        if (trial == previous || !double.IsFinite(trial.MuRate) || trial.MuRate == 0 || trial.PathTangent is null) return (null, double.PositiveInfinity);
-        if (!double.IsFinite(previous.MuRate) || !double.IsFinite(previous.LambdaRate) || !double.IsFinite(previous.Mu)) return (null, double.PositiveInfinity);
+        if (trial == previous || !double.IsFinite(trial.MuRate) || trial.MuRate == 0 || !double.IsFinite(trial.LambdaRate)) return null;
+        if (!double.IsFinite(previous.MuRate) || !double.IsFinite(previous.LambdaRate) || !double.IsFinite(previous.Mu)) return null;
         double dt = -trial.Mu / trial.MuRate;
         double tStar = trial.T + dt;
-        if (!double.IsFinite(tStar) || tStar < lo.T || tStar > hi.T) return (null, double.PositiveInfinity);
+        if (!double.IsFinite(tStar) || tStar < lo.T || tStar > hi.T) return null;
         double h = trial.T - previous.T;
-        if (h == 0) return (null, double.PositiveInfinity);
+        if (h == 0) return null;
         double cMu = Math.Abs(trial.Mu - previous.Mu - previous.MuRate * h) / (h * h);
         double cLambda = Math.Abs(trial.Lambda - previous.Lambda - previous.LambdaRate * h) / (h * h);
         double tError = 2 * cMu * dt * dt / Math.Abs(trial.MuRate) + RateError * Math.Abs(dt);
-        double estimate = Math.Abs(trial.LambdaRate) * tError + 2 * cLambda * dt * dt;
-        if (!double.IsFinite(estimate)) return (null, double.PositiveInfinity);
-        var u = (double[])trial.U.Clone();
-        sys.AddFree(u, trial.PathTangent, dt);
-        var s = new State(tStar, u, trial.Lambda + dt * trial.LambdaRate, trial.Count, trial.Mu + dt * trial.MuRate, trial.Mode, trial.Slope) { Origin = trial };
-        return (s, estimate);
+        double estimate = Math.Abs(trial.LambdaRate) * (Math.Abs(dt) + tError) + 2 * cLambda * dt * dt;
+        return double.IsFinite(estimate) ? estimate : null;
     }
 
     private double Alignment(double[] mode) =>
