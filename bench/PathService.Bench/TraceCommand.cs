@@ -51,7 +51,7 @@ public static class TraceCommand
                     break;
                 case CriticalPoint c:
                     critical++;
-                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}");
+                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, estimated error {c.Tolerance:E1}{(c.Located ? "" : ", not located: " + c.LocationNote)}");
                     break;
                 case StepCut c:
                     cuts++;

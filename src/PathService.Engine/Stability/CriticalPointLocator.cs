@@ -135,8 +135,9 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
 
     /// <summary>
     /// Two changes of the count found at the same λ (within the asked tolerance plus both estimates), neither of them a
-    /// turn of λ, are one bifurcation of multiplicity k1 + k2: a symmetric structure's repeated eigenvalue can be split by
-    /// rounding into two crossings a few ulps apart. Reported once, with the k modes at the better-located state.
+    /// turn of λ, are one bifurcation of multiplicity |net change|: a symmetric structure's repeated eigenvalue can be
+    /// split by rounding into crossings a few ulps apart, and trials a hair from it may see the count flicker. Reported
+    /// once, with the k modes at the better-located state.
     /// </summary>
     private List<Result> MergeCoincident(List<Result> results)
     {
@@ -147,16 +148,18 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             var p = merged[^1];
             var r = results[i];
             double scale = Math.Max(1.0, Math.Abs(r.LoadFactor));
-            bool sameDirection = Math.Sign(p.NegativeAfter - p.NegativeBefore) == Math.Sign(r.NegativeAfter - r.NegativeBefore);
             bool coincident = Math.Abs(p.LoadFactor - r.LoadFactor) <= (controls.CriticalPointTolerance + p.Tolerance + r.Tolerance) * scale;
-            if (!(sameDirection && coincident && p.NegativeAfter == r.NegativeBefore && p.LoadTurns != true && r.LoadTurns != true && !p.Folded && !r.Folded))
+            if (!(coincident && p.NegativeAfter == r.NegativeBefore && p.LoadTurns != true && r.LoadTurns != true && !p.Folded && !r.Folded))
             {
                 merged.Add(r);
                 continue;
             }
             var keep = Math.Abs(p.Eigenvalue) <= Math.Abs(r.Eigenvalue) ? p : r;
             int k = Math.Abs(r.NegativeAfter - p.NegativeBefore);
-            double[][] modes = [.. p.ModesFree, .. r.ModesFree];
+            // Changes of opposite sign at one λ are the inertia of rounding at a repeated root (a trial a hair from it):
+            // they cancel; a net change of zero leaves no critical point.
+            if (k == 0) { merged.RemoveAt(merged.Count - 1); if (merged.Count == 0 && i + 1 < results.Count) merged.Add(results[++i]); continue; }
+            double[][] modes = [.. p.ModesFree.Concat(r.ModesFree).Take(k)];
             double mu = keep.Eigenvalue;
             bool inPlace = _factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot && ReferenceEquals(_factored.U, keep.Displacement);
             if (inPlace || sys.Refactor(keep.Displacement) != LdlStatus.ZeroPivot)
@@ -186,8 +189,18 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         bool located = false, exact = false, folded = false;
         double estimate = double.PositiveInfinity;
         double tol = controls.CriticalPointTolerance;
+        // An end that is already at the root (a trial that split a bracket lands there when two crossings lie on either
+        // side of it, or a pair split by rounding): its own Newton step, doubled, meets the tolerance, so no trial is
+        // made. A trial a hair from a repeated root would only see the inertia of rounding.
+        foreach (var end in new[] { lo, hi })
+        {
+            if (end.T == 0 || end.T == 1 || !double.IsFinite(end.MuRate) || end.MuRate == 0 || !double.IsFinite(end.LambdaRate)) continue;
+            double dt = -end.Mu / end.MuRate;
+            double own = 2 * Math.Abs(end.LambdaRate * dt);
+            if (Math.Abs(dt) <= 1e-6 && own <= Target * tol * Math.Max(1.0, Math.Abs(end.Lambda)) && own < estimate) { best = end; estimate = own; located = true; }
+        }
 
-        while (true)
+        while (!located)
         {
             if (ct.IsCancellationRequested) { note = "cancelled during location"; break; }
             if (_trials >= MaxTrials) { note = $"stopped after {MaxTrials} trial states in this step"; break; }
@@ -388,7 +401,10 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         if (width > 0.25) return false;
         double dist = 0;
         for (int i = 0; i < lo.U.Length; i++) { double x = hi.U[i] - lo.U[i]; dist += x * x; }
-        return Math.Sqrt(dist) > 20 * width * _dNorm + 1e-12 * _dNorm;
+        // The floor: near a bifurcation equilibrium on a hyperplane is ill-conditioned along the mode (a residual r moves u by
+        // ~ φ·r/μ there), so two converged states a hair apart in t may differ by far more than the hair; a fold moves
+        // the crossing by a visible part of the step.
+        return Math.Sqrt(dist) > 20 * width * _dNorm + 1e-6 * _dNorm;
     }
 
     /// <summary>
