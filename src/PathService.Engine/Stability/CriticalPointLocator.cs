@@ -29,6 +29,8 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     {
         /// <summary>The chord of the step could not order the states (the path turns back within it): shorten the step.</summary>
         public bool Folded { get; init; }
+        /// <summary>The factorised trial state the located state was reached from by the last Newton correction (null: none).</summary>
+        public double[]? FactoredNear { get; init; }
     }
 
     /// <summary>Trials first try modified Newton with the tangent in place (the last trial's) for this many iterations.</summary>
@@ -48,6 +50,8 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         /// <summary>dμ/dt and dλ/dt along the path at this state, and the path tangent du/dt (free DOFs); NaN/null when not known.</summary>
         public double MuRate = double.NaN, LambdaRate = double.NaN;
         public double[]? PathTangent;
+        /// <summary>For a state reached by the last Newton correction along the path tangent: the factorised trial it came from.</summary>
+        public State? Origin;
         public double T = t;
         public double[] U = u;
         public double Lambda = lambda;
@@ -161,7 +165,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             if (k == 0) { merged.RemoveAt(merged.Count - 1); if (merged.Count == 0 && i + 1 < results.Count) merged.Add(results[++i]); continue; }
             double[][] modes = [.. p.ModesFree.Concat(r.ModesFree).Take(k)];
             double mu = keep.Eigenvalue;
-            bool inPlace = _factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot && ReferenceEquals(_factored.U, keep.Displacement);
+            bool inPlace = _factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot && (ReferenceEquals(_factored.U, keep.Displacement) || ReferenceEquals(_factored.U, keep.FactoredNear));
             if (inPlace || sys.Refactor(keep.Displacement) != LdlStatus.ZeroPivot)
             {
                 var (values, vectors) = NearNullMode.ComputeBlock(sys, k, keep.ModesFree[0], absoluteTolerance: _blockAbsolute);
@@ -280,8 +284,13 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             // correction δt = −μ/μ' (which is the error to first order) plus that correction's own uncertainty.
             estimate = ErrorEstimate(history, lo, hi, best);
             if (best == trial && NewtonEstimate(trial, previousBest, lo, hi) is { } newton && newton < estimate) estimate = newton;
+            // Or the state reached by that correction along the path tangent, when its estimate is smaller still: it
+            // saves the last factorisation of a converging Newton sequence.
+            var (corrected, correctedEstimate) = Corrected(trial, previousBest, lo, hi);
+            if (best == trial && corrected is not null && correctedEstimate < estimate) { best = corrected; estimate = correctedEstimate; }
             // Iterate to a third of the asked tolerance: the estimate is a model's, so keep a margin below the promise.
             if (estimate <= Target * tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; break; }
+            if (best.Origin is not null) best = best.Origin;
             if (hi.T - lo.T <= 4 * double.Epsilon * Math.Max(1.0, Math.Abs(hi.T)) || hi.T - lo.T < 1e-15)
             {
                 note = $"the bracket cannot be narrowed further (width {hi.T - lo.T:G3} of the step); estimated λ error {estimate:G3}";
@@ -299,13 +308,14 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             relative = Math.Max(double.IsFinite(estimate) ? relative : 0, Math.Abs(hi.Lambda - lo.Lambda) / Math.Max(1.0, Math.Abs(best.Lambda)));
 
         int k = Math.Abs(hi.Count - lo.Count);
+        if (k == 1 && !exact && best.Origin is not null) best.Mode = CorrectedMode(best);
         double[][] modes = [best.Mode];
         double mu = best.Mu;
         if (k > 1 && !exact)
         {
             // Multiplicity k: k modes of the eigenvalues nearest zero at the located state (block inverse iteration), with
-            // the factorisation in place when it is that state's.
-            bool inPlace = _factored == best && sys.Factor.Status != LdlStatus.ZeroPivot;
+            // the factorisation in place when it is that state's or the trial's it was corrected from (modes to O(δt)).
+            bool inPlace = _factored is not null && (_factored == best || _factored == best.Origin) && sys.Factor.Status != LdlStatus.ZeroPivot;
             if (!inPlace && sys.Refactor(best.U) == LdlStatus.ZeroPivot) { _factored = null; }
             else
             {
@@ -334,7 +344,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             }
         }
         results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
-            { Folded = folded });
+            { Folded = folded, FactoredNear = best.Origin?.U });
     }
 
     /// <summary>The trial as an end of the bracket with counts (countLo, countHi): its eigenpair re-picked with the sign
@@ -386,6 +396,70 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         double tError = 2 * cMu * dt * dt / Math.Abs(trial.MuRate) + RateError * Math.Abs(dt);
         double estimate = Math.Abs(trial.LambdaRate) * (Math.Abs(dt) + tError) + 2 * cLambda * dt * dt;
         return double.IsFinite(estimate) ? estimate : null;
+    }
+
+    /// <summary>
+    /// The state reached from a trial by its Newton correction δt = −μ/μ' along the path tangent, u + δt u', λ + δt λ'
+    /// (an equilibrium state to O(δt²), no factorisation), and its estimated λ error: the remainder of Newton's step
+    /// and μ''s assumed error, times |λ'| (as in <see cref="NewtonEstimate"/>, without the step itself), c_λ δt², and the
+    /// λ shift of the corrected state's own residual. Null when the trial or the previous state has no rate, or the
+    /// corrected point leaves the bracket.
+    /// </summary>
+    private (State?, double) Corrected(State trial, State previous, State lo, State hi)
+    {
+        if (trial == previous || trial.PathTangent is null || NewtonEstimate(trial, previous, lo, hi) is null) return (null, double.PositiveInfinity);
+        double dt = -trial.Mu / trial.MuRate;
+        double h = trial.T - previous.T;
+        double cMu = Math.Abs(trial.Mu - previous.Mu - previous.MuRate * h) / (h * h);
+        double cLambda = Math.Abs(trial.Lambda - previous.Lambda - previous.LambdaRate * h) / (h * h);
+        double tError = 2 * cMu * dt * dt / Math.Abs(trial.MuRate) + RateError * Math.Abs(dt);
+        double estimate = Math.Abs(trial.LambdaRate) * tError + 2 * cLambda * dt * dt;
+        var u = (double[])trial.U.Clone();
+        sys.AddFree(u, trial.PathTangent, dt);
+        double lambda = trial.Lambda + dt * trial.LambdaRate;
+        // The corrected state is an equilibrium state to O(δt²) only: its residual's shift of λ (judged as at the end of
+        // Resolve) is part of its error, so a correction too long to keep equilibrium is not taken.
+        double rn = sys.Residual(u, lambda, _work);
+        bool turns = lo.Slope != 0 && hi.Slope != 0 && lo.Slope != hi.Slope;
+        double shift = turns
+            ? Math.Abs(EquilibriumSystem.Dot(trial.Mode, _work)) / Math.Max(Math.Abs(EquilibriumSystem.Dot(trial.Mode, sys.ReferenceFree)), 1e-300)
+            : rn / Math.Sqrt(sys.ReferenceNormSquared);
+        estimate += shift;
+        if (!double.IsFinite(estimate)) return (null, double.PositiveInfinity);
+        var s = new State(trial.T + dt, u, lambda, trial.Count, trial.Mu + dt * trial.MuRate, trial.Mode, trial.Slope)
+        {
+            Origin = trial, MuRate = trial.MuRate, LambdaRate = trial.LambdaRate, PathTangent = trial.PathTangent,
+        };
+        return (s, estimate);
+    }
+
+    /// <summary>
+    /// The mode at a corrected state to O(δt²): φ + δt φ', where differentiating (K − μ)φ = 0 along the path gives
+    /// (K − μ)φ' = −(K' − μ')φ with φ'·φ = 0, solved with the trial's factorisation (K ≈ K − μ near the root); K'φ by the
+    /// same central difference as μ'. Keeps the mode, and what is computed from it (sensitivities, the branch switch),
+    /// as accurate as the corrected state.
+    /// </summary>
+    private double[] CorrectedMode(State corrected)
+    {
+        var trial = corrected.Origin!;
+        var phi = trial.Mode;
+        if (_factored != trial || trial.PathTangent is null || sys.Factor.Status == LdlStatus.ZeroPivot) return phi;
+        int n = phi.Length;
+        var plus = new double[n];
+        ModeStiffness(trial.U, trial.PathTangent, RateStep, phi);
+        Array.Copy(_kphi, plus, n);
+        ModeStiffness(trial.U, trial.PathTangent, -RateStep, phi);
+        var w = _work;
+        for (int e = 0; e < n; e++) w[e] = (plus[e] - _kphi[e]) / (2 * RateStep) - trial.MuRate * phi[e];
+        sys.Factor.Solve(w);
+        double along = EquilibriumSystem.Dot(phi, w);
+        double dt = corrected.T - trial.T;
+        var mode = new double[n];
+        for (int e = 0; e < n; e++) mode[e] = phi[e] - dt * (w[e] - along * phi[e]);
+        double norm = Math.Sqrt(EquilibriumSystem.Dot(mode, mode));
+        if (!(norm > 0) || !double.IsFinite(norm)) return phi;
+        for (int e = 0; e < n; e++) mode[e] /= norm;
+        return mode;
     }
 
     private double Alignment(double[] mode) =>
