@@ -130,7 +130,7 @@ public static class TraceCommand
         Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
         Console.WriteLine($"  factorisation time {s.FactorizationTime.TotalSeconds:F2} s ({s.FactorizationTime.TotalSeconds / Math.Max(1, s.Factorizations) * 1000:F1} ms each), rest {traceWall - s.FactorizationTime.TotalSeconds:F2} s");
         double outside = (s.CriticalPointTime - s.CriticalPointFactorizationTime).TotalSeconds;
-        Console.WriteLine($"  critical points: {s.CriticalPointFactorizations} factorisations ({(double)s.CriticalPointFactorizations / Math.Max(1, critical):F2} per point), " +
+        Console.WriteLine($"  critical points: {s.CriticalPointFactorizations} factorisations ({(double)s.CriticalPointFactorizations / Math.Max(1, critical):F2} per point), {s.CriticalPointSolves} solves, " +
             $"{s.CriticalPointTime.TotalSeconds:F2} s in all, outside factorisations {outside:F2} s = {100 * outside / traceWall:F1} % of the trace wall");
         Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s");
         Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB: set-up and first point {(allocatedAtFirst - allocatedBefore) / 1e6:F1} MB, " +

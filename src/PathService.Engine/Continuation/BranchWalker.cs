@@ -139,10 +139,12 @@ internal sealed class BranchWalker(TraceSession s)
                         // Critical-point work is timed apart (with its factorisations and their time) for the summary.
                         long started = System.Diagnostics.Stopwatch.GetTimestamp();
                         int factorizations = sys.Factorizations;
+                        long solves = sys.Refined.CheckedSolves;
                         var factorTime = sys.FactorizationTime;
                         found = LocateCritical(_previous, previousLambda, b.Inertia, b.U, lambda, newInertia, b.LastPointIndex, s.Points, b.Predictor);
                         s.CriticalPointTime += System.Diagnostics.Stopwatch.GetElapsedTime(started);
                         s.CriticalPointFactorizations += sys.Factorizations - factorizations;
+                        s.CriticalPointSolves += sys.Refined.CheckedSolves - solves;
                         s.CriticalPointFactorizationTime += sys.FactorizationTime - factorTime;
                         bool canShorten = attempt < c.MaxCutsPerStep && Math.Abs(0.5 * increment) >= _minIncrement;
                         if (canShorten && found.Any(f => f.Folded))
@@ -361,6 +363,8 @@ internal sealed class BranchWalker(TraceSession s)
         // The factorisation in place is the tangent at b (factorised at the converged point), and K⁻¹F_ref there is the
         // new predictor.
         var found = locator.Locate(ua, la, na, ub, lb, nb, _modeGuess, s.Ct, factorAtB: true, predictorA: predictorA, predictorB: _newPredictor);
+        s.CriticalPointTrials += locator.Trials;
+        s.CriticalPointNewtonTrials += locator.NewtonTrials;
         _factorOfBranch = -1;
         var list = new List<CriticalPoint>(found.Count);
         var factored = locator.FactoredDisplacement;

@@ -34,12 +34,17 @@ internal sealed class TraceSession(StructuralModel model, SolverControls control
     /// <summary>Work of critical-point location (with the modes, full states and sensitivities at the points found).</summary>
     public TimeSpan CriticalPointTime { get; set; }
     public int CriticalPointFactorizations { get; set; }
+    public long CriticalPointSolves { get; set; }
+    public int CriticalPointTrials { get; set; }
+    public int CriticalPointNewtonTrials { get; set; }
     public TimeSpan CriticalPointFactorizationTime { get; set; }
 
     public PathSummary Summary(StopReason reason, string message) => new(reason, message, MaxLoadFactor, FinalLoadFactor, Points,
         Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Elapsed, Criticals) {
             Branches = Branches, Refinements = Sys.Refined.RefinementSteps, CriticalPointTime = CriticalPointTime,
-            CriticalPointFactorizations = CriticalPointFactorizations, CriticalPointFactorizationTime = CriticalPointFactorizationTime,
+            CriticalPointFactorizations = CriticalPointFactorizations, CriticalPointSolves = CriticalPointSolves,
+            CriticalPointTrials = CriticalPointTrials, CriticalPointNewtonTrials = CriticalPointNewtonTrials,
+            CriticalPointFactorizationTime = CriticalPointFactorizationTime,
         };
 
     /// <summary>A stop that ends the whole trace, whichever branch is being followed (null: go on).</summary>
