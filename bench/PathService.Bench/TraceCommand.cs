@@ -53,7 +53,7 @@ public static class TraceCommand
                     break;
                 case CriticalPoint c:
                     critical++;
-                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}");
+                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, estimated error {c.Tolerance:E1}{(c.Located ? "" : ", not located: " + c.LocationNote)}");
                     break;
                 case StepCut c:
                     cuts++;
@@ -131,6 +131,9 @@ public static class TraceCommand
         Console.WriteLine($"  solves refined by the backward-error check: {s.Refinements} refinement steps");
         Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
         Console.WriteLine($"  factorisation time {s.FactorizationTime.TotalSeconds:F2} s ({s.FactorizationTime.TotalSeconds / Math.Max(1, s.Factorizations) * 1000:F1} ms each), rest {traceWall - s.FactorizationTime.TotalSeconds:F2} s");
+        double outside = (s.CriticalPointTime - s.CriticalPointFactorizationTime).TotalSeconds;
+        Console.WriteLine($"  critical points: {s.CriticalPointFactorizations} factorisations ({(double)s.CriticalPointFactorizations / Math.Max(1, critical):F2} per point), {s.CriticalPointSolves} solves, " +
+            $"{s.CriticalPointTime.TotalSeconds:F2} s in all, outside factorisations {outside:F2} s = {100 * outside / traceWall:F1} % of the trace wall");
         Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s");
         Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB: set-up and first point {(allocatedAtFirst - allocatedBefore) / 1e6:F1} MB, " +
             $"second point {(allocatedAtSecond - allocatedAtFirst) / 1e6:F2} MB (first-use buffers), then {(allocatedBefore + allocated - allocatedAtSecond) / 1e3 / Math.Max(1, iterations - 2):F1} kB per iteration (points and events included)");

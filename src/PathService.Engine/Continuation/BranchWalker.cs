@@ -136,7 +136,16 @@ internal sealed class BranchWalker(TraceSession s)
                     sys.Factor.Solve(sys.ReferenceFree, _newPredictor);
                     if (newInertia != b.Inertia && c.DetectCriticalPoints)
                     {
-                        found = LocateCritical(_previous, previousLambda, b.Inertia, b.U, lambda, newInertia, b.LastPointIndex, s.Points);
+                        // Critical-point work is timed apart (with its factorisations and their time) for the summary.
+                        long started = System.Diagnostics.Stopwatch.GetTimestamp();
+                        int factorizations = sys.Factorizations;
+                        long solves = sys.Refined.CheckedSolves;
+                        var factorTime = sys.FactorizationTime;
+                        found = LocateCritical(_previous, previousLambda, b.Inertia, b.U, lambda, newInertia, b.LastPointIndex, s.Points, b.Predictor);
+                        s.CriticalPointTime += System.Diagnostics.Stopwatch.GetElapsedTime(started);
+                        s.CriticalPointFactorizations += sys.Factorizations - factorizations;
+                        s.CriticalPointSolves += sys.Refined.CheckedSolves - solves;
+                        s.CriticalPointFactorizationTime += sys.FactorizationTime - factorTime;
                         bool canShorten = attempt < c.MaxCutsPerStep && Math.Abs(0.5 * increment) >= _minIncrement;
                         if (canShorten && found.Any(f => f.Folded))
                         {
@@ -344,13 +353,18 @@ internal sealed class BranchWalker(TraceSession s)
     /// Only when the turn cannot be judged (a chord without displacement) does the load alignment decide, against
     /// <see cref="SolverControls.FallbackAlignmentThreshold"/>.
     /// </summary>
-    private List<CriticalPoint> LocateCritical(double[] ua, double la, int na, double[] ub, double lb, int nb, int before, int after)
+    /// <param name="predictorA">K⁻¹F_ref at u_a (the branch's predictor at its last point): the start of the step then
+    /// needs no factorisation.</param>
+    private List<CriticalPoint> LocateCritical(double[] ua, double la, int na, double[] ub, double lb, int nb, int before, int after, double[] predictorA)
     {
         var c = s.Controls;
         var sys = s.Sys;
         var locator = new CriticalPointLocator(sys, s.Corrector, c);
-        // The factorisation in place is the tangent at b (factorised at the converged point).
-        var found = locator.Locate(ua, la, na, ub, lb, nb, _modeGuess, s.Ct, factorAtB: true);
+        // The factorisation in place is the tangent at b (factorised at the converged point), and K⁻¹F_ref there is the
+        // new predictor.
+        var found = locator.Locate(ua, la, na, ub, lb, nb, _modeGuess, s.Ct, factorAtB: true, predictorA: predictorA, predictorB: _newPredictor);
+        s.CriticalPointTrials += locator.Trials;
+        s.CriticalPointNewtonTrials += locator.NewtonTrials;
         _factorOfBranch = -1;
         var list = new List<CriticalPoint>(found.Count);
         var factored = locator.FactoredDisplacement;

@@ -141,4 +141,16 @@ public sealed record PathSummary(
     /// above 1e-12 (<see cref="Sparse.RefinedFactorization"/>); 0 in a well-conditioned trace.
     /// </summary>
     public int Refinements { get; init; }
+
+    /// <summary>Wall time spent resolving steps into their critical points (location, modes, full states and
+    /// sensitivities at the points), the factorisations made for it and their time; zero without critical points.</summary>
+    public TimeSpan CriticalPointTime { get; init; }
+    public int CriticalPointFactorizations { get; init; }
+    /// <summary>Solves with the factor (each right-hand side of a two-column solve counted) made by critical-point work.</summary>
+    public long CriticalPointSolves { get; init; }
+    /// <summary>Trial states of critical-point location, and how many of them were placed by Newton's step on the crossing
+    /// eigenvalue (the rest by regula falsi or bisection, the fallback).</summary>
+    public int CriticalPointTrials { get; init; }
+    public int CriticalPointNewtonTrials { get; init; }
+    public TimeSpan CriticalPointFactorizationTime { get; init; }
 }

@@ -31,9 +31,21 @@ internal sealed class TraceSession(StructuralModel model, SolverControls control
     public int Branches { get; set; } = 1;
     public double MaxLoadFactor { get; set; }
     public double FinalLoadFactor { get; set; }
+    /// <summary>Work of critical-point location (with the modes, full states and sensitivities at the points found).</summary>
+    public TimeSpan CriticalPointTime { get; set; }
+    public int CriticalPointFactorizations { get; set; }
+    public long CriticalPointSolves { get; set; }
+    public int CriticalPointTrials { get; set; }
+    public int CriticalPointNewtonTrials { get; set; }
+    public TimeSpan CriticalPointFactorizationTime { get; set; }
 
     public PathSummary Summary(StopReason reason, string message) => new(reason, message, MaxLoadFactor, FinalLoadFactor, Points,
-        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Elapsed, Criticals) { Branches = Branches, Refinements = Sys.Refined.RefinementSteps };
+        Steps, Iterations, Cuts, Sys.Factorizations, Sys.FactorizationTime, Elapsed, Criticals) {
+            Branches = Branches, Refinements = Sys.Refined.RefinementSteps, CriticalPointTime = CriticalPointTime,
+            CriticalPointFactorizations = CriticalPointFactorizations, CriticalPointSolves = CriticalPointSolves,
+            CriticalPointTrials = CriticalPointTrials, CriticalPointNewtonTrials = CriticalPointNewtonTrials,
+            CriticalPointFactorizationTime = CriticalPointFactorizationTime,
+        };
 
     /// <summary>A stop that ends the whole trace, whichever branch is being followed (null: go on).</summary>
     public (StopReason Reason, string Message)? GlobalStop()

@@ -52,7 +52,10 @@ internal static class NearNullMode
     /// (subspace iteration; Parlett 1998, ch. 14 (from memory)), for a bifurcation of multiplicity k. Eigenvalues in
     /// increasing |μ|; modes orthonormal. The first start vector is the guess (the single mode already found).
     /// </summary>
-    public static (double[] Eigenvalues, double[][] Modes) ComputeBlock(EquilibriumSystem sys, int k, double[]? guess, int maxIterations = 30, double tolerance = 1e-10)
+    /// <param name="absoluteTolerance">Added to the relative test: at a located critical point the eigenvalues wanted are
+    /// themselves ~0, and a purely relative test on them would never pass.</param>
+    public static (double[] Eigenvalues, double[][] Modes) ComputeBlock(EquilibriumSystem sys, int k, double[]? guess, int maxIterations = 30, double tolerance = 1e-10,
+        double absoluteTolerance = 0)
     {
         int n = sys.FreeCount;
         k = Math.Clamp(k, 1, n);
@@ -102,11 +105,101 @@ internal static class NearNullMode
             x = rotated;
             bool done = it > 1;
             for (int j = 0; j < k && done; j++)
-                done = Math.Abs(values[j] - previous[j]) <= tolerance * Math.Max(Math.Abs(values[j]), 1e-300) + 1e-300;
+                done = Math.Abs(values[j] - previous[j]) <= tolerance * Math.Max(Math.Abs(values[j]), 1e-300) + absoluteTolerance + 1e-300;
             Array.Copy(values, previous, k);
             if (done) break;
         }
         return (values, x);
+    }
+
+    /// <summary>
+    /// The eigenpair of K nearest zero among the eigenvalues of one sign, by the Lanczos method on K⁻¹ with full
+    /// reorthogonalisation (C. Lanczos 1950; Parlett 1998, ch. 13 (from memory)). The extreme eigenvalues of K⁻¹ are the
+    /// reciprocals of K's eigenvalues nearest zero from either side, and Lanczos finds both ends of a spectrum first, so
+    /// the negative eigenvalue nearest zero is found even where a positive soft mode lies nearer (plain inverse iteration
+    /// would converge to that one). Stops when the wanted Ritz pair's residual ‖K⁻¹y − θy‖ = β_j|z_j| is below
+    /// <paramref name="tolerance"/>·|θ|. The eigenvalue returned is the Rayleigh quotient yᵀKy of the unit Ritz vector.
+    /// </summary>
+    /// <param name="sign">−1 or +1: the sign wanted; 0: nearest zero of either sign.</param>
+    /// <param name="basis">Work space of up to <paramref name="maxSteps"/> + 1 vectors, reused between calls.</param>
+    /// <returns>Eigenvalue, mode, and false when no Ritz value of that sign exists in the Krylov space.</returns>
+    public static (double Eigenvalue, double[] Mode, bool Found) NearestOfSign(EquilibriumSystem sys, int sign, double[]? start, List<double[]> basis,
+        int maxSteps = 30, double tolerance = 1e-6)
+    {
+        int n = sys.FreeCount;
+        maxSteps = Math.Min(maxSteps, n);
+        while (basis.Count < maxSteps + 1) basis.Add(new double[n]);
+        var q0 = basis[0];
+        // Start: the guess (the mode tracked so far) with a deterministic tenth of every direction, so that the Krylov
+        // space is never confined to one symmetry class.
+        var rng = new Random(12345);
+        for (int i = 0; i < n; i++) q0[i] = 0.1 * (rng.NextDouble() - 0.5);
+        if (start is not null && start.Length == n)
+        {
+            double gn = Math.Sqrt(EquilibriumSystem.Dot(start, start));
+            if (gn > 0) for (int i = 0; i < n; i++) q0[i] += start[i] / gn;
+        }
+        Normalize(q0);
+        var alpha = new double[maxSteps];
+        var beta = new double[maxSteps];
+        double[]? z = null;
+        double theta = 0;
+        int steps = 0;
+        for (int j = 0; j < maxSteps; j++)
+        {
+            var w = basis[j + 1];
+            sys.Factor.Solve(basis[j], w);
+            alpha[j] = EquilibriumSystem.Dot(basis[j], w);
+            // Full reorthogonalisation against the basis, one classical Gram-Schmidt pass (enough for the few tens of steps
+            // taken here; each pass costs ~4jn flops, at 30 steps more than a solve).
+            for (int pass = 0; pass < 1; pass++)
+                for (int i = 0; i <= j; i++)
+                {
+                    double c = EquilibriumSystem.Dot(basis[i], w);
+                    var qi = basis[i];
+                    for (int e = 0; e < n; e++) w[e] -= c * qi[e];
+                }
+            beta[j] = Math.Sqrt(EquilibriumSystem.Dot(w, w));
+            steps = j + 1;
+            // Ritz values of the tridiagonal T_j; the wanted one: of the given sign, largest |θ| (μ = 1/θ nearest zero).
+            var t = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.Dense(steps, steps);
+            for (int i = 0; i < steps; i++)
+            {
+                t[i, i] = alpha[i];
+                if (i + 1 < steps) { t[i, i + 1] = beta[i]; t[i + 1, i] = beta[i]; }
+            }
+            var evd = t.Evd(MathNet.Numerics.LinearAlgebra.Symmetricity.Symmetric);
+            int pick = -1;
+            for (int i = 0; i < steps; i++)
+            {
+                double v = evd.EigenValues[i].Real;
+                if (sign != 0 && Math.Sign(v) != sign) continue;
+                if (pick < 0 || Math.Abs(v) > Math.Abs(evd.EigenValues[pick].Real)) pick = i;
+            }
+            if (pick >= 0)
+            {
+                theta = evd.EigenValues[pick].Real;
+                z = new double[steps];
+                for (int i = 0; i < steps; i++) z[i] = evd.EigenVectors[i, pick];
+                if (Math.Abs(beta[j] * z[steps - 1]) <= tolerance * Math.Abs(theta)) break;
+            }
+            else z = null;
+            if (!(beta[j] > 1e-14 * Math.Abs(alpha[j])) || !double.IsFinite(beta[j])) break; // invariant subspace found
+            if (j + 1 < maxSteps) for (int e = 0; e < n; e++) w[e] /= beta[j];
+        }
+        if (z is null || theta == 0) return (0.0, q0, false);
+        var y = new double[n];
+        for (int i = 0; i < z.Length; i++)
+        {
+            double c = z[i];
+            var qi = basis[i];
+            for (int e = 0; e < n; e++) y[e] += c * qi[e];
+        }
+        if (!Normalize(y)) return (0.0, q0, false);
+        var ky = new double[n];
+        sys.Assembler.Multiply(sys.Values, y, ky);
+        double mu = EquilibriumSystem.Dot(y, ky);
+        return (double.IsFinite(mu) ? mu : 1.0 / theta, y, true);
     }
 
     /// <summary>Modified Gram-Schmidt, twice for orthogonality to rounding.</summary>
