@@ -104,6 +104,7 @@ public sealed class StructuralModel
         var restrained = new List<int>();
         foreach (var s in def.Supports)
         {
+            if (ModelValidator.IsRotation(s.Direction)) continue; // no rotational unknowns yet (beams are wired next)
             int d = DofMap.Full(_nodeIndex[s.Node], s.Direction);
             restrained.Add(d);
             PrescribedDisplacement[d] = s.PrescribedDisplacement;
