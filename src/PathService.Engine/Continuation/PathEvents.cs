@@ -6,8 +6,17 @@ public abstract record PathEvent;
 /// <summary>Stability of an equilibrium point from the inertia of its tangent (Sylvester's law of inertia).</summary>
 public enum Stability { Stable, Unstable }
 
-/// <summary>Full nodal and member state at a point. Vectors are in model order; displacements and reactions are 3 per node.</summary>
-public sealed record StructureState(double[] Displacements, double[] BarForces, double[] BarStrains, double[] Reactions);
+/// <summary>
+/// Full nodal and member state at a point. Vectors are in model order; displacements and reactions are in the layout of
+/// the model's <see cref="Model.DofMap"/>: 3 per node (translations; forces), 6 at rotating nodes (then also the rotation
+/// vector of the node; moments). Without beams that is 3 per node.
+/// </summary>
+public sealed record StructureState(double[] Displacements, double[] BarForces, double[] BarStrains, double[] Reactions)
+{
+    /// <summary>Local end forces of every beam element (<see cref="Model.BeamElements"/> order), 12 each: N, Vy, Vz, T, My, Mz
+    /// at the start, then at the end, in the element's current local axes.</summary>
+    public double[] BeamEndForces { get; init; } = [];
+}
 
 /// <summary>A converged equilibrium point.</summary>
 /// <param name="Index">0 for the start (λ = 0 with the constant load applied), then 1, 2, ...</param>
