@@ -13,8 +13,9 @@ public enum Stability { Stable, Unstable }
 /// </summary>
 public sealed record StructureState(double[] Displacements, double[] BarForces, double[] BarStrains, double[] Reactions)
 {
-    /// <summary>Local end forces of every beam element (<see cref="Model.BeamElements"/> order), 12 each: N, Vy, Vz, T, My, Mz
-    /// at the start, then at the end, in the element's current local axes.</summary>
+    /// <summary>Member-end actions of every beam element (<see cref="Model.BeamElements"/> order), 12 each, in the element's
+    /// current local axes: force and moment on the member at the start (F1x, F1y, F1z, M1x, M1y, M1z), then at the end
+    /// (F2x = N, tension positive; Mx torsion, My and Mz bending).</summary>
     public double[] BeamEndForces { get; init; } = [];
 }
 

@@ -6,7 +6,7 @@ namespace PathService.Engine.Model;
 /// go to its first element's start and last element's end; intermediate joints are rigid. A bow imperfection moves the
 /// intermediate nodes by a·sin(π s) (s = k/n along the member) towards the member's local y or z.
 /// Local axes of each element: x along its own initial chord, y = normalised component of the member's orientation
-/// vector normal to x, z = x × y (the initial triad, stored row-wise: e_x, e_y, e_z).
+/// vector normal to x, z = x × y (set up by the kernel, <see cref="Elements.CorotationalBeam.TryInitialTriad"/>).
 /// </summary>
 public sealed class BeamElements
 {
@@ -27,8 +27,6 @@ public sealed class BeamElements
     public double[] SecondMomentZ { get; }
     public double[] TorsionConstant { get; }
     public double[] Length { get; }
-    /// <summary>Initial triad, 9 per element, row-major rows e_x, e_y, e_z (global components).</summary>
-    public double[] Triad { get; }
     public int[] StartReleases { get; }
     public int[] EndReleases { get; }
 
@@ -76,13 +74,11 @@ public sealed class BeamElements
         SecondMomentZ = Member.Select(b => def.Beams[b].SecondMomentZ).ToArray();
         TorsionConstant = Member.Select(b => def.Beams[b].TorsionConstant).ToArray();
         Length = new double[Count];
-        Triad = new double[9 * Count];
         for (int e = 0; e < Count; e++)
         {
             int i = Start[e], j = End[e];
             double dx = coordinates[3 * j] - coordinates[3 * i], dy = coordinates[3 * j + 1] - coordinates[3 * i + 1], dz = coordinates[3 * j + 2] - coordinates[3 * i + 2];
             Length[e] = Math.Sqrt(dx * dx + dy * dy + dz * dz);
-            Axes(dx, dy, dz, def.Beams[Member[e]].Orientation, Triad.AsSpan(9 * e, 9));
         }
     }
 
@@ -93,7 +89,7 @@ public sealed class BeamElements
     private static int Flags(BeamEndReleases? r) => r is null ? 0
         : (r.Torsion ? ReleaseTorsion : 0) | (r.BendingY ? ReleaseBendingY : 0) | (r.BendingZ ? ReleaseBendingZ : 0);
 
-    /// <summary>Local triad from a chord and an orientation vector: e_x along the chord, e_y = unit(v − (v·e_x)e_x), e_z = e_x × e_y.</summary>
+    /// <summary>Member axes for the bow, rows e_x, e_y, e_z: e_x along the chord, e_y = unit(v − (v·e_x)e_x), e_z = e_x × e_y.</summary>
     public static void Axes(double dx, double dy, double dz, (double X, double Y, double Z) v, Span<double> t)
     {
         double l = Math.Sqrt(dx * dx + dy * dy + dz * dz);
