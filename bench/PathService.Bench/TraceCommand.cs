@@ -19,6 +19,7 @@ public static class TraceCommand
         var defaults = new SolverControls();
         double increment = o.Double("increment", defaults.InitialLoadIncrement);
         bool verbose = o.String("verbose", "false") == "true";
+        bool digits = o.String("digits", "off") == "on";
         var process = Process.GetCurrentProcess();
         Console.WriteLine($"machine: {Machine.Describe()}");
 
@@ -49,11 +50,12 @@ public static class TraceCommand
                     if (p.Index == 0) { firstPoint = traceClock.Elapsed.TotalSeconds; allocatedAtFirst = GC.GetTotalAllocatedBytes(true); }
                     if (p.Index == 1) allocatedAtSecond = GC.GetTotalAllocatedBytes(true);
                     if (verbose) Console.WriteLine($"    allocated so far {(GC.GetTotalAllocatedBytes(true) - allocatedBefore) / 1e3:F1} kB");
+                    if (digits) Console.WriteLine($"  digits {p.Index,3}  λ = {p.LoadFactor:R}  w = {p.Monitored[0]:R}");
                     if (verbose) Console.WriteLine($"  point {p.Index,3}  λ = {p.LoadFactor,10:G6}  w = {p.Monitored[0],10:G5}  its {p.Iterations}  neg {p.NegativePivots}");
                     break;
                 case CriticalPoint c:
                     critical++;
-                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, estimated error {c.Tolerance:E1}{(c.Located ? "" : ", not located: " + c.LocationNote)}");
+                    if (verbose || digits) Console.WriteLine($"  critical point: {c.Kind} λ = {(digits ? c.LoadFactor.ToString("R") : c.LoadFactor.ToString("G8"))}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, estimated error {c.Tolerance:E1}{(c.Located ? "" : ", not located: " + c.LocationNote)}");
                     break;
                 case StepCut c:
                     cuts++;
