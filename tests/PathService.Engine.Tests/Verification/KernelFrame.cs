@@ -112,6 +112,26 @@ internal sealed class KernelFrame
         return false;
     }
 
+    /// <summary>
+    /// Moves held translation <paramref name="direction"/> of <paramref name="node"/> to <paramref name="value"/> from a
+    /// converged state: first the tangent's linear response of the free directions to the increment (predictor), then
+    /// Newton's method at λ = 0. True on convergence.
+    /// </summary>
+    public bool SolvePrescribed(int node, int direction, double value)
+    {
+        int n = Dofs, c = 6 * node + direction;
+        var f = new double[n];
+        var k = new double[n * n];
+        InternalForce(f, k);
+        var free = Enumerable.Range(0, n).Where(i => !_fixed[i]).ToArray();
+        double dv = value - U[3 * node + direction];
+        var kf = Matrix<double>.Build.Dense(free.Length, free.Length, (i, j) => k[n * free[i] + free[j]]);
+        var rhs = Vector<double>.Build.Dense(free.Length, i => -k[n * free[i] + c] * dv);
+        Apply(free, kf.Solve(rhs));
+        U[3 * node + direction] = value;
+        return Solve(0);
+    }
+
     private void Apply(int[] free, Vector<double> d)
     {
         Span<double> e = stackalloc double[9], tmp = stackalloc double[9];
