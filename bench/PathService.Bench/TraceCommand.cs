@@ -18,6 +18,7 @@ public static class TraceCommand
         int m = o.Int("m", 60), points = o.Int("points", 30), repeats = o.Int("repeats", 15);
         double increment = o.Double("increment", 0.05);
         bool verbose = o.String("verbose", "false") == "true";
+        bool digits = o.String("digits", "off") == "on";
         var process = Process.GetCurrentProcess();
         Console.WriteLine($"machine: {Machine.Describe()}");
 
@@ -47,11 +48,12 @@ public static class TraceCommand
                     if (p.Index == 0) { firstPoint = traceClock.Elapsed.TotalSeconds; allocatedAtFirst = GC.GetTotalAllocatedBytes(true); }
                     if (p.Index == 1) allocatedAtSecond = GC.GetTotalAllocatedBytes(true);
                     if (verbose) Console.WriteLine($"    allocated so far {(GC.GetTotalAllocatedBytes(true) - allocatedBefore) / 1e3:F1} kB");
+                    if (digits) Console.WriteLine($"  digits {p.Index,3}  λ = {p.LoadFactor:R}  w = {p.Monitored[0]:R}");
                     if (verbose) Console.WriteLine($"  point {p.Index,3}  λ = {p.LoadFactor,10:G6}  w = {p.Monitored[0],10:G5}  its {p.Iterations}  neg {p.NegativePivots}");
                     break;
                 case CriticalPoint c:
                     critical++;
-                    if (verbose) Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8}");
+                    if (verbose || digits) Console.WriteLine($"  critical point: {c.Kind} λ = {(digits ? c.LoadFactor.ToString("R") : c.LoadFactor.ToString("G8"))}");
                     break;
                 case StepCut c:
                     cuts++;

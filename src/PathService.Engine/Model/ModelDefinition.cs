@@ -1,7 +1,29 @@
 namespace PathService.Engine.Model;
 
-/// <summary>Global translational direction of a node.</summary>
-public enum Axis { X = 0, Y = 1, Z = 2 }
+/// <summary>
+/// Global direction of a node: the three translations (X, Y, Z = 0..2) and the three rotations about the global axes
+/// (RotationX/Y/Z = 3..5, right-hand rule). A node has rotational unknowns only when a beam end holding some rotation
+/// connects to it (see <see cref="DofMap"/>).
+/// </summary>
+public enum Axis { X = 0, Y = 1, Z = 2, RotationX = 3, RotationY = 4, RotationZ = 5 }
+
+/// <summary>Which plane a member's bow imperfection lies in: bending towards local y or towards local z.</summary>
+public enum BowPlane { LocalY = 0, LocalZ = 1 }
+
+/// <summary>
+/// End releases of a beam at one end: a released rotation is a hinge for that component (the end moment about that
+/// local axis is zero). Torsion is the rotation about local x; BendingY and BendingZ the rotations about local y and z.
+/// An end with all three released transmits forces only, like a bar's pin.
+/// </summary>
+public sealed record BeamEndReleases(bool Torsion = false, bool BendingY = false, bool BendingZ = false)
+{
+    /// <summary>A rigid end: every rotation held.</summary>
+    public static BeamEndReleases Rigid { get; } = new();
+    /// <summary>A pinned end: every rotation released.</summary>
+    public static BeamEndReleases Pinned { get; } = new(true, true, true);
+    /// <summary>Whether the end holds at least one rotation (then the node it connects to carries rotations).</summary>
+    public bool HoldsRotation => !(Torsion && BendingY && BendingZ);
+}
 
 /// <summary>A joint of the structure at its initial (stress-free unless stated) position.</summary>
 public sealed record NodeDefinition(string Id, double X, double Y, double Z);
@@ -24,7 +46,35 @@ public sealed record BarDefinition(string Id, string StartNode, string EndNode, 
     public double EffectiveLengthFactor { get; init; } = 1.0;
 }
 
-/// <summary>A linear spring from a node to the ground acting on one global direction (an elastic bearing).</summary>
+/// <summary>
+/// A beam-column between two nodes (corotational formulation over a linear elastic beam): moduli E and G, section area
+/// A, second moments I_y and I_z about the local y and z axes, torsion constant J, and an orientation vector that fixes
+/// the local axes. Local x runs from the start node to the end node; local y lies in the plane of x and the orientation
+/// vector, on the side the vector points to (y = normalised v − (v·x)x); local z = x × y. The orientation vector must not
+/// be parallel to the member.
+/// </summary>
+public sealed record BeamDefinition(string Id, string StartNode, string EndNode, double ElasticModulus, double ShearModulus,
+    double Area, double SecondMomentY, double SecondMomentZ, double TorsionConstant, (double X, double Y, double Z) Orientation)
+{
+    /// <summary>Releases at the start node (default: rigid).</summary>
+    public BeamEndReleases StartReleases { get; init; } = BeamEndReleases.Rigid;
+    /// <summary>Releases at the end node (default: rigid).</summary>
+    public BeamEndReleases EndReleases { get; init; } = BeamEndReleases.Rigid;
+    /// <summary>Number of elements the member is divided into (n ≥ 1); intermediate nodes get the ids "&lt;beam id&gt;#k", k = 1..n−1.</summary>
+    public int Subdivisions { get; init; } = 1;
+    /// <summary>
+    /// Amplitude of a half-sine bow imperfection at mid-length (length unit, signed: positive towards +local y or +local z
+    /// of <see cref="BowPlane"/>); 0 = straight. Applied to the intermediate nodes, so it needs <see cref="Subdivisions"/> ≥ 2.
+    /// </summary>
+    public double BowAmplitude { get; init; }
+    /// <summary>The local plane the bow lies in.</summary>
+    public BowPlane BowPlane { get; init; } = BowPlane.LocalY;
+}
+
+/// <summary>
+/// A linear spring from a node to the ground acting on one global direction (an elastic bearing): force per length for a
+/// translation, moment per radian for a rotation (RotationX/Y/Z).
+/// </summary>
 public sealed record GroundSpringDefinition(string Id, string Node, Axis Direction, double Stiffness);
 
 /// <summary>A linear spring between two nodes acting on the difference of their displacements along one global direction.</summary>
@@ -33,8 +83,18 @@ public sealed record LinkSpringDefinition(string Id, string StartNode, string En
 /// <summary>A restrained direction of a node, held at a prescribed displacement (zero for a plain support) throughout the analysis.</summary>
 public sealed record SupportDefinition(string Node, Axis Direction, double PrescribedDisplacement = 0.0);
 
-/// <summary>A nodal force vector in the model's force unit.</summary>
-public sealed record NodalLoad(string Node, double Fx, double Fy, double Fz);
+/// <summary>A nodal force vector in the model's force unit, with an optional nodal moment (force × length, about the global axes).</summary>
+public sealed record NodalLoad(string Node, double Fx, double Fy, double Fz)
+{
+    /// <summary>Moment about global x; needs a node with rotational unknowns.</summary>
+    public double Mx { get; init; }
+    /// <summary>Moment about global y; needs a node with rotational unknowns.</summary>
+    public double My { get; init; }
+    /// <summary>Moment about global z; needs a node with rotational unknowns.</summary>
+    public double Mz { get; init; }
+    /// <summary>Whether any moment component is non-zero.</summary>
+    public bool HasMoment => Mx != 0 || My != 0 || Mz != 0;
+}
 
 /// <summary>A displacement component watched along the path (and the control variable of displacement control).</summary>
 public sealed record DofReference(string Node, Axis Direction)
@@ -74,6 +134,7 @@ public sealed record ModelDefinition
     public UnitLabels Units { get; init; } = new();
     public IReadOnlyList<NodeDefinition> Nodes { get; init; } = [];
     public IReadOnlyList<BarDefinition> Bars { get; init; } = [];
+    public IReadOnlyList<BeamDefinition> Beams { get; init; } = [];
     public IReadOnlyList<GroundSpringDefinition> GroundSprings { get; init; } = [];
     public IReadOnlyList<LinkSpringDefinition> LinkSprings { get; init; } = [];
     public IReadOnlyList<SupportDefinition> Supports { get; init; } = [];

@@ -20,17 +20,18 @@ public static class ModelValidator
         var touched = new bool[model.Nodes.Count];
 
         CheckBars(model, nodeIndex, extent, touched, findings);
-        CheckGroundSprings(model, nodeIndex, touched, findings);
-        CheckLinkSprings(model, nodeIndex, touched, findings);
-        var restrained = CheckSupports(model, nodeIndex, findings);
-        CheckLoads(model, nodeIndex, restrained, findings);
+        var rotating = BeamChecks.Check(model, nodeIndex, extent, touched, findings);
+        CheckGroundSprings(model, nodeIndex, touched, rotating, findings);
+        CheckLinkSprings(model, nodeIndex, touched, rotating, findings);
+        var restrained = CheckSupports(model, nodeIndex, rotating, findings);
+        CheckLoads(model, nodeIndex, restrained, rotating, findings);
 
         for (int i = 0; i < model.Nodes.Count; i++)
         {
             var n = model.Nodes[i];
             if (!touched[i] && !string.IsNullOrEmpty(n.Id))
                 findings.Add(Error(FindingCode.UnconnectedNode, $"nodes[{i}]", n.Id,
-                    $"node '{n.Id}' is not connected to any bar or spring; remove it or connect it"));
+                    $"node '{n.Id}' is not connected to any bar, beam or spring; remove it or connect it"));
         }
         return findings;
     }
@@ -48,8 +49,8 @@ public static class ModelValidator
         var index = new Dictionary<string, int>(StringComparer.Ordinal);
         if (model.Nodes.Count == 0)
             findings.Add(Error(FindingCode.EmptyModel, "nodes", null, "the model has no nodes"));
-        if (model.Bars.Count == 0 && model.GroundSprings.Count == 0 && model.LinkSprings.Count == 0)
-            findings.Add(Error(FindingCode.EmptyModel, "bars", null, "the model has no bars and no springs"));
+        if (model.Bars.Count == 0 && model.Beams.Count == 0 && model.GroundSprings.Count == 0 && model.LinkSprings.Count == 0)
+            findings.Add(Error(FindingCode.EmptyModel, "bars", null, "the model has no bars, no beams and no springs"));
 
         for (int i = 0; i < model.Nodes.Count; i++)
         {
@@ -145,7 +146,7 @@ public static class ModelValidator
         }
     }
 
-    private static void CheckGroundSprings(ModelDefinition model, Dictionary<string, int> nodes, bool[] touched, List<ValidationFinding> findings)
+    private static void CheckGroundSprings(ModelDefinition model, Dictionary<string, int> nodes, bool[] touched, bool[] rotating, List<ValidationFinding> findings)
     {
         var ids = new Dictionary<string, int>(StringComparer.Ordinal);
         for (int s = 0; s < model.GroundSprings.Count; s++)
@@ -155,14 +156,15 @@ public static class ModelValidator
             string? id = CheckSpringId(sp.Id, path, s, ids, findings);
             int i = ResolveNode(sp.Node, $"{path}.node", id, "spring", nodes, findings);
             if (i >= 0) touched[i] = true;
-            CheckAxis(sp.Direction, $"{path}.direction", id, findings);
+            if (CheckAxis(sp.Direction, $"{path}.direction", id, findings) && i >= 0)
+                CheckRotationAvailable(sp.Direction, i, sp.Node, rotating, $"{path}.direction", id, $"spring '{id}'", findings);
             if (CheckNumber(sp.Stiffness, $"{path}.stiffness", id, "stiffness", findings) && sp.Stiffness <= 0)
                 findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.stiffness", id,
                     $"spring '{id}' has stiffness {sp.Stiffness}; it must be positive"));
         }
     }
 
-    private static void CheckLinkSprings(ModelDefinition model, Dictionary<string, int> nodes, bool[] touched, List<ValidationFinding> findings)
+    private static void CheckLinkSprings(ModelDefinition model, Dictionary<string, int> nodes, bool[] touched, bool[] rotating, List<ValidationFinding> findings)
     {
         var ids = new Dictionary<string, int>(StringComparer.Ordinal);
         for (int s = 0; s < model.LinkSprings.Count; s++)
@@ -176,14 +178,18 @@ public static class ModelValidator
             if (j >= 0) touched[j] = true;
             if (i >= 0 && i == j)
                 findings.Add(Error(FindingCode.SameNodeAtBothEnds, $"{path}.end_node", id, $"spring '{id}' starts and ends at node '{sp.StartNode}'"));
-            CheckAxis(sp.Direction, $"{path}.direction", id, findings);
+            if (CheckAxis(sp.Direction, $"{path}.direction", id, findings))
+            {
+                if (i >= 0) CheckRotationAvailable(sp.Direction, i, sp.StartNode, rotating, $"{path}.direction", id, $"spring '{id}'", findings);
+                if (j >= 0 && j != i) CheckRotationAvailable(sp.Direction, j, sp.EndNode, rotating, $"{path}.direction", id, $"spring '{id}'", findings);
+            }
             if (CheckNumber(sp.Stiffness, $"{path}.stiffness", id, "stiffness", findings) && sp.Stiffness <= 0)
                 findings.Add(Error(FindingCode.NonPositiveStiffness, $"{path}.stiffness", id,
                     $"spring '{id}' has stiffness {sp.Stiffness}; it must be positive"));
         }
     }
 
-    private static HashSet<(int, Axis)> CheckSupports(ModelDefinition model, Dictionary<string, int> nodes, List<ValidationFinding> findings)
+    private static HashSet<(int, Axis)> CheckSupports(ModelDefinition model, Dictionary<string, int> nodes, bool[] rotating, List<ValidationFinding> findings)
     {
         var seen = new HashSet<(int, Axis)>();
         for (int s = 0; s < model.Supports.Count; s++)
@@ -196,11 +202,16 @@ public static class ModelValidator
             if (i >= 0 && axisOk && !seen.Add((i, sup.Direction)))
                 findings.Add(Error(FindingCode.DuplicateSupport, path, sup.Node,
                     $"node '{sup.Node}' is restrained in {sup.Direction} more than once"));
+            // A rotational restraint at a node without rotational unknowns restrains nothing: say so, and go on
+            // (a generated model often fixes all six directions at every support, whatever connects there).
+            if (i >= 0 && axisOk && IsRotation(sup.Direction) && !rotating[i])
+                findings.Add(Warning(FindingCode.RotationWithoutRotationalUnknowns, $"{path}.direction", sup.Node,
+                    $"node '{sup.Node}' has no rotational unknowns (no beam end holding a rotation connects to it); the restraint in {sup.Direction} is ignored"));
         }
         return seen;
     }
 
-    private static void CheckLoads(ModelDefinition model, Dictionary<string, int> nodes, HashSet<(int, Axis)> restrained, List<ValidationFinding> findings)
+    private static void CheckLoads(ModelDefinition model, Dictionary<string, int> nodes, HashSet<(int, Axis)> restrained, bool[] rotating, List<ValidationFinding> findings)
     {
         double referenceSize = 0;
         foreach (var (list, name) in new[] { (model.Loads.Constant, "loads.constant"), (model.Loads.Reference, "loads.reference") })
@@ -213,24 +224,25 @@ public static class ModelValidator
                 bool fx = CheckNumber(load.Fx, $"{path}.fx", load.Node, "force x", findings);
                 bool fy = CheckNumber(load.Fy, $"{path}.fy", load.Node, "force y", findings);
                 bool fz = CheckNumber(load.Fz, $"{path}.fz", load.Node, "force z", findings);
-                if (name == "loads.reference" && fx && fy && fz)
-                    referenceSize += Math.Abs(load.Fx) + Math.Abs(load.Fy) + Math.Abs(load.Fz);
+                bool moments = CheckMoments(load, path, i, rotating, findings);
+                if (name == "loads.reference" && fx && fy && fz && moments)
+                    referenceSize += Math.Abs(load.Fx) + Math.Abs(load.Fy) + Math.Abs(load.Fz) + Math.Abs(load.Mx) + Math.Abs(load.My) + Math.Abs(load.Mz);
                 if (i < 0) continue;
-                double[] f = [load.Fx, load.Fy, load.Fz];
-                for (int d = 0; d < 3; d++)
+                double[] f = [load.Fx, load.Fy, load.Fz, load.Mx, load.My, load.Mz];
+                for (int d = 0; d < 6; d++)
                     if (f[d] != 0 && restrained.Contains((i, (Axis)d)))
                         findings.Add(Warning(FindingCode.LoadOnRestrainedDirection, path, load.Node,
                             $"load on node '{load.Node}' in {(Axis)d} acts on a restrained direction and goes straight into the reaction"));
             }
         }
-        referenceSize += CheckCombination(model, nodes, findings);
+        referenceSize += CheckCombination(model, nodes, rotating, findings);
         if (referenceSize == 0)
             findings.Add(Error(FindingCode.NoReferenceLoad, "loads.reference", null,
                 "the reference load (the part scaled by the load factor) is empty or zero; give at least one non-zero nodal force"));
     }
 
     /// <returns>A size measure of the combination's reference part (0 when it adds nothing).</returns>
-    private static double CheckCombination(ModelDefinition model, Dictionary<string, int> nodes, List<ValidationFinding> findings)
+    private static double CheckCombination(ModelDefinition model, Dictionary<string, int> nodes, bool[] rotating, List<ValidationFinding> findings)
     {
         var sizes = new Dictionary<string, double>(StringComparer.Ordinal);
         for (int p = 0; p < model.LoadSets.Count; p++)
@@ -244,10 +256,10 @@ public static class ModelValidator
             {
                 var load = set.Loads[l];
                 string lp = $"{path}.loads[{l}]";
-                ResolveNode(load.Node, $"{lp}.node", load.Node, "load", nodes, findings);
+                int node = ResolveNode(load.Node, $"{lp}.node", load.Node, "load", nodes, findings);
                 if (CheckNumber(load.Fx, $"{lp}.fx", load.Node, "force x", findings) & CheckNumber(load.Fy, $"{lp}.fy", load.Node, "force y", findings)
-                    & CheckNumber(load.Fz, $"{lp}.fz", load.Node, "force z", findings))
-                    size += Math.Abs(load.Fx) + Math.Abs(load.Fy) + Math.Abs(load.Fz);
+                    & CheckNumber(load.Fz, $"{lp}.fz", load.Node, "force z", findings) & CheckMoments(load, lp, node, rotating, findings))
+                    size += Math.Abs(load.Fx) + Math.Abs(load.Fy) + Math.Abs(load.Fz) + Math.Abs(load.Mx) + Math.Abs(load.My) + Math.Abs(load.Mz);
             }
             if (set.SelfWeight)
             {
@@ -291,7 +303,7 @@ public static class ModelValidator
         return id;
     }
 
-    private static int ResolveNode(string? node, string path, string? itemId, string what, Dictionary<string, int> nodes, List<ValidationFinding> findings)
+    internal static int ResolveNode(string? node, string path, string? itemId, string what, Dictionary<string, int> nodes, List<ValidationFinding> findings)
     {
         if (string.IsNullOrWhiteSpace(node))
         {
@@ -305,13 +317,38 @@ public static class ModelValidator
 
     private static bool CheckAxis(Axis axis, string path, string? itemId, List<ValidationFinding> findings)
     {
-        if (axis is Axis.X or Axis.Y or Axis.Z) return true;
-        findings.Add(Error(FindingCode.InvalidDirection, path, itemId, (int)axis == int.MinValue ? "direction is not set (give x, y or z)" : $"direction {(int)axis} is not one of x, y, z"));
+        if (axis is Axis.X or Axis.Y or Axis.Z or Axis.RotationX or Axis.RotationY or Axis.RotationZ) return true;
+        findings.Add(Error(FindingCode.InvalidDirection, path, itemId, (int)axis == int.MinValue
+            ? "direction is not set (give x, y, z or a rotation about x, y, z)"
+            : $"direction {(int)axis} is not one of x, y, z (0..2) or the rotations about x, y, z (3..5)"));
         return false;
     }
 
+    internal static bool IsRotation(Axis axis) => axis is Axis.RotationX or Axis.RotationY or Axis.RotationZ;
+
+    /// <summary>A rotational spring needs rotational unknowns at its node: without a beam holding a rotation there, the
+    /// rotation would be a free-standing unknown that only the spring sees.</summary>
+    private static void CheckRotationAvailable(Axis axis, int node, string nodeId, bool[] rotating, string path, string? itemId, string what, List<ValidationFinding> findings)
+    {
+        if (IsRotation(axis) && !rotating[node])
+            findings.Add(Error(FindingCode.RotationWithoutRotationalUnknowns, path, itemId,
+                $"{what} acts on {axis} of node '{nodeId}', which has no rotational unknowns (no beam end holding a rotation connects to it)"));
+    }
+
+    /// <returns>true when all three moment components are finite numbers of sane magnitude.</returns>
+    private static bool CheckMoments(NodalLoad load, string path, int node, bool[] rotating, List<ValidationFinding> findings)
+    {
+        bool ok = CheckNumber(load.Mx, $"{path}.mx", load.Node, "moment x", findings)
+            & CheckNumber(load.My, $"{path}.my", load.Node, "moment y", findings)
+            & CheckNumber(load.Mz, $"{path}.mz", load.Node, "moment z", findings);
+        if (ok && node >= 0 && load.HasMoment && !rotating[node])
+            findings.Add(Error(FindingCode.RotationWithoutRotationalUnknowns, $"{path}.{(load.Mx != 0 ? "mx" : load.My != 0 ? "my" : "mz")}", load.Node,
+                $"a moment acts on node '{load.Node}', which has no rotational unknowns (no beam end holding a rotation connects to it)"));
+        return ok;
+    }
+
     /// <returns>true when the number is finite and of a sane magnitude.</returns>
-    private static bool CheckNumber(double value, string path, string? itemId, string what, List<ValidationFinding> findings)
+    internal static bool CheckNumber(double value, string path, string? itemId, string what, List<ValidationFinding> findings)
     {
         if (!double.IsFinite(value))
         {
@@ -326,7 +363,7 @@ public static class ModelValidator
         return true;
     }
 
-    private static double Sq(double v) => v * v;
-    private static ValidationFinding Error(FindingCode code, string path, string? id, string message) => new(FindingSeverity.Error, code, path, id, message);
-    private static ValidationFinding Warning(FindingCode code, string path, string? id, string message) => new(FindingSeverity.Warning, code, path, id, message);
+    internal static double Sq(double v) => v * v;
+    internal static ValidationFinding Error(FindingCode code, string path, string? id, string message) => new(FindingSeverity.Error, code, path, id, message);
+    internal static ValidationFinding Warning(FindingCode code, string path, string? id, string message) => new(FindingSeverity.Warning, code, path, id, message);
 }

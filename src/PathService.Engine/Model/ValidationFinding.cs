@@ -45,6 +45,14 @@ public enum FindingCode
     ImperfectionWeightsMismatch,
     /// <summary>A design direction names a bar, node or spring that is not in the model.</summary>
     UnknownDesignItem,
+    /// <summary>A beam section property or orientation out of range (non-positive modulus, area, second moment, torsion
+    /// constant; an orientation vector of zero length or parallel to the member).</summary>
+    BeamPropertyOutOfRange,
+    /// <summary>A member subdivision or bow imperfection out of range (subdivisions outside 1..100, a bow on an undivided
+    /// member, a generated intermediate node id that is already taken).</summary>
+    MemberSubdivisionOutOfRange,
+    /// <summary>A rotational direction (support, spring, load moment, watched DOF) at a node without rotational unknowns.</summary>
+    RotationWithoutRotationalUnknowns,
 }
 
 /// <summary>
