@@ -7,7 +7,7 @@ namespace PathService.Engine.Elements;
 /// non-linear, three-dimensional, beam-elements", CMAME 81 (1990) 131–150; "Non-linear Finite Element Analysis of Solids
 /// and Structures", Vol. 2, Wiley 1997, ch. 17 (from memory)); the element frame, the matrix G of its spin and the
 /// structure of the tangent follow J.-M. Battini and C. Pacoste, "Co-rotational beam elements with warping effects in
-/// instability problems", CMAME 191 (2002) 1755–1789, §3 (from memory). Derivation in docs/theory.md §14.
+/// instability problems", CMAME 191 (2002) 1755–1789, §3 (from memory). Derivation in docs/theory.md §15.
 ///
 /// Kinematics (current nodal triads Tᵢ = Rᵢ R₀, with R₀ the initial triad, columns e₁ e₂ e₃):
 ///   element frame R_r = [r₁ r₂ r₃]: r₁ along the current chord d = x₂ − x₁ (length l); r₃ = r₁ × q/|r₁ × q| with
