@@ -55,12 +55,18 @@ async Task<int> FirstPoint(string[] a)
         Model = m, LoadCase = l, Controls = new ProtoControls { MaxPoints = 1, FullStateAtEnd = false, Monitored = { watch } },
     };
     var factorMs = new List<double>();
+    var cpuMs = new List<double>();
     async Task<double> FirstPointMs(TracePathRequest request)
     {
+        var process = Process.GetCurrentProcess();
+        double cpu0 = process.TotalProcessorTime.TotalMilliseconds;
         var clock = Stopwatch.StartNew();
         using var call = client.TracePath(request);
         if (!await call.ResponseStream.MoveNext() || call.ResponseStream.Current.Point is null) throw new InvalidOperationException("no point came back");
         double ms = clock.Elapsed.TotalMilliseconds;
+        process.Refresh();
+        // CPU of the whole process (client and server) until point 0: on a shared host less dependent on the neighbours.
+        cpuMs.Add(process.TotalProcessorTime.TotalMilliseconds - cpu0);
         while (await call.ResponseStream.MoveNext())
             if (call.ResponseStream.Current.Summary is { } summary) factorMs.Add(summary.FactorizationTime.ToTimeSpan().TotalMilliseconds);
         return ms;
@@ -68,12 +74,14 @@ async Task<int> FirstPoint(string[] a)
 
     await FirstPointMs(Request(small, smallLoads, smallCrown)); // warm-up: JIT, connection
     factorMs.Clear();
+    cpuMs.Clear();
     var times = new List<double>();
     for (int i = 0; i < runs; i++) times.Add(await FirstPointMs(Request(model, loads, crown)));
     times.Sort();
     Console.WriteLine($"time to first point, {model.Nodes.Count} nodes / {model.Bars.Count} bars over loopback gRPC, {runs} runs: " +
         $"median {times[times.Count / 2]:F1} ms, min {times[0]:F1} ms, max {times[^1]:F1} ms (target < 25 ms); " +
-        $"of which factorising the first tangent on the server: median {factorMs.Order().ElementAt(factorMs.Count / 2):F1} ms");
+        $"of which factorising the first tangent on the server: median {factorMs.Order().ElementAt(factorMs.Count / 2):F1} ms; " +
+        $"process CPU until point 0: median {cpuMs.Order().ElementAt(cpuMs.Count / 2):F1} ms");
     return 0;
 }
 
@@ -90,8 +98,14 @@ async Task<int> Overhead(string[] a)
     Console.WriteLine($"roof m = {m}: {model.Nodes.Count} nodes, {model.Bars.Count} bars, request {request.CalculateSize() / 1e6:F2} MB; {points} points, default controls");
 
     // In-process: the proto request mapped to the engine and traced, every event read (what the CLI's local mode does).
-    (double Seconds, int Points, long Bytes) InProcess()
+    // CPU time of the whole process (client, server and engine share it): on a host shared with other work, wall
+    // time says little on its own, while the CPU seconds each side consumes do not depend on the neighbours.
+    static double Cpu() => Process.GetCurrentProcess().TotalProcessorTime.TotalSeconds;
+    var kinds = new SortedDictionary<string, (int Count, long Bytes)>();
+
+    (double Seconds, int Points, long Bytes, double Cpu) InProcess()
     {
+        double cpu0 = Cpu();
         var clock = Stopwatch.StartNew();
         var sm = StructuralModel.Create(ModelMapper.ToDefinition(model, loads));
         var c = ControlsMapper.ToControls(controls);
@@ -100,12 +114,13 @@ async Task<int> Overhead(string[] a)
         foreach (var e in new PathTracer(sm, c).Trace())
             if (e is PathService.Engine.Continuation.PathPoint p) { n++; sink += p.LoadFactor + p.Monitored[0]; }
         if (double.IsNaN(sink)) throw new InvalidOperationException("NaN");
-        return (clock.Elapsed.TotalSeconds, n, 0);
+        return (clock.Elapsed.TotalSeconds, n, 0, Cpu() - cpu0);
     }
 
     // Over gRPC: the same request, every streamed message read and its point's numbers used.
-    async Task<(double Seconds, int Points, long Bytes)> OverGrpc()
+    async Task<(double Seconds, int Points, long Bytes, double Cpu)> OverGrpc()
     {
+        double cpu0 = Cpu();
         var clock = Stopwatch.StartNew();
         using var call = client.TracePath(request);
         int n = 0;
@@ -114,32 +129,39 @@ async Task<int> Overhead(string[] a)
         while (await call.ResponseStream.MoveNext())
         {
             var r = call.ResponseStream.Current;
-            bytes += r.CalculateSize();
+            int size = r.CalculateSize();
+            bytes += size;
+            string kind = r.UpdateCase + (r.Point?.State is not null || r.CriticalPoint?.State is not null ? " with state" : "");
+            kinds[kind] = kinds.TryGetValue(kind, out var k) ? (k.Count + 1, k.Bytes + size) : (1, size);
             if (r.Point is { } p) { n++; sink += p.LoadFactor + p.Monitored[0].Value; }
         }
         if (double.IsNaN(sink)) throw new InvalidOperationException("NaN");
-        return (clock.Elapsed.TotalSeconds, n, bytes);
+        return (clock.Elapsed.TotalSeconds, n, bytes, Cpu() - cpu0);
     }
 
     // Warm-up of both paths (JIT, connection), not counted.
     InProcess();
     await OverGrpc();
+    Console.WriteLine("  one trace streams: " + string.Join(", ", kinds.Select(k => $"{k.Value.Count} {k.Key} ({k.Value.Bytes / 1e3:F0} kB)")));
     var ratios = new List<double>();
+    var cpuRatios = new List<double>();
     var local = new List<double>();
     var remote = new List<double>();
     for (int i = 0; i < runs; i++)
     {
         // Alternate which side goes first, so a drift of the machine's speed does not favour one.
-        (double Seconds, int Points, long Bytes) x, y;
+        (double Seconds, int Points, long Bytes, double Cpu) x, y;
         if (i % 2 == 0) { x = InProcess(); y = await OverGrpc(); }
         else { y = await OverGrpc(); x = InProcess(); }
         if (x.Points != y.Points) throw new InvalidOperationException($"in-process {x.Points} points, gRPC {y.Points}");
-        local.Add(x.Seconds); remote.Add(y.Seconds); ratios.Add(y.Seconds / x.Seconds);
-        Console.WriteLine($"  pair {i + 1}: in-process {x.Seconds:F3} s, gRPC {y.Seconds:F3} s ({y.Points} points, {y.Bytes / 1e6:F2} MB streamed), ratio {y.Seconds / x.Seconds:F4}");
+        local.Add(x.Seconds); remote.Add(y.Seconds); ratios.Add(y.Seconds / x.Seconds); cpuRatios.Add(y.Cpu / x.Cpu);
+        Console.WriteLine($"  pair {i + 1}: in-process {x.Seconds:F3} s wall / {x.Cpu:F2} s CPU, gRPC {y.Seconds:F3} s / {y.Cpu:F2} s CPU " +
+            $"({y.Points} points, {y.Bytes / 1e6:F2} MB streamed), ratio wall {y.Seconds / x.Seconds:F4}, CPU {y.Cpu / x.Cpu:F4}");
     }
-    ratios.Sort(); local.Sort(); remote.Sort();
+    ratios.Sort(); local.Sort(); remote.Sort(); cpuRatios.Sort();
     Console.WriteLine($"streaming overhead, {runs} interleaved pairs: gRPC / in-process median {ratios[runs / 2]:F4} " +
-        $"(range {ratios[0]:F4}–{ratios[^1]:F4}; target <= 1.05); medians in-process {local[runs / 2]:F3} s, gRPC {remote[runs / 2]:F3} s");
+        $"(range {ratios[0]:F4}–{ratios[^1]:F4}; target <= 1.05); medians in-process {local[runs / 2]:F3} s, gRPC {remote[runs / 2]:F3} s; " +
+        $"CPU seconds gRPC / in-process median {cpuRatios[runs / 2]:F4} (range {cpuRatios[0]:F4}–{cpuRatios[^1]:F4})");
     return 0;
 }
 

@@ -71,6 +71,8 @@ public static class TraceCommand
         long allocated = GC.GetTotalAllocatedBytes(true) - allocatedBefore;
         process.Refresh();
         long peakAfterTrace = process.PeakWorkingSet64;
+        // CPU time of the process up to here: on a host shared with other work the wall time says little on its own.
+        double processCpu = process.TotalProcessorTime.TotalSeconds;
         var s = summary!;
         int iterations = s.Iterations;
         int converged = s.Points - 1;
@@ -136,7 +138,7 @@ public static class TraceCommand
         double outside = (s.CriticalPointTime - s.CriticalPointFactorizationTime).TotalSeconds;
         Console.WriteLine($"  critical points: {s.CriticalPointFactorizations} factorisations ({(double)s.CriticalPointFactorizations / Math.Max(1, critical):F2} per point), {s.CriticalPointSolves} solves, " +
             $"{s.CriticalPointTime.TotalSeconds:F2} s in all, outside factorisations {outside:F2} s = {100 * outside / traceWall:F1} % of the trace wall");
-        Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s");
+        Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s, process CPU {processCpu:F1} s");
         Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB: set-up and first point {(allocatedAtFirst - allocatedBefore) / 1e6:F1} MB, " +
             $"second point {(allocatedAtSecond - allocatedAtFirst) / 1e6:F2} MB (first-use buffers), then {(allocatedBefore + allocated - allocatedAtSecond) / 1e3 / Math.Max(1, iterations - 2):F1} kB per iteration (points and events included)");
         var gc = GC.GetGCMemoryInfo();
