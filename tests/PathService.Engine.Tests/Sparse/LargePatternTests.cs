@@ -5,20 +5,18 @@ using static PathService.Engine.Tests.Sparse.SparseTestMatrices;
 
 namespace PathService.Engine.Tests.Sparse;
 
-public class PerformanceTests(ITestOutputHelper output)
+public class LargePatternTests(ITestOutputHelper output)
 {
     [Fact]
-    public void Amd_On98kColumn3DTrussPattern_FinishesWithinSeconds_AndBeatsNaturalFill()
+    public void Amd_On98kColumn3DTrussPattern_HasLessFillThanTheNaturalOrder()
     {
         var (pattern, _) = TrussLattice(32, 32, 32, 0.25, 41);
-        var clock = Stopwatch.StartNew();
+        // Speed is the bench's business (`scaling`); this test holds the ordering's result only.
         var amd = LdlSymbolic.Analyze(pattern);
-        var elapsed = clock.Elapsed;
         var natural = LdlSymbolic.Analyze(pattern, OrderingMethod.Natural);
         output.WriteLine($"n={pattern.Size} nnz(upper)={pattern.NonZeroCount} ordering={amd.OrderingTime.TotalMilliseconds:F0} ms " +
                          $"symbolic={amd.SymbolicTime.TotalMilliseconds:F0} ms nnz(L)={amd.FactorNonZeroCount} flops={amd.FactorFlopCount:E3} " +
                          $"natural nnz(L)={natural.FactorNonZeroCount} flops={natural.FactorFlopCount:E3}");
-        Assert.True(elapsed < TimeSpan.FromSeconds(15), $"Analyze took {elapsed}");
         Assert.True(amd.FactorNonZeroCount < natural.FactorNonZeroCount);
     }
 
