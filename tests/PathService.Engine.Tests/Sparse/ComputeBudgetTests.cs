@@ -126,4 +126,30 @@ public class ComputeBudgetTests
         Assert.Equal(shared.GroundSpringStiffness, alone.GroundSpringStiffness);
         Assert.Equal(shared.Breaks.NodeAxes, alone.Breaks.NodeAxes);
     }
+
+    /// <summary>
+    /// Critical-point location (Lanczos on K⁻¹, rates from tangents along the path, Newton trials) gives the same bits
+    /// with helpers and with the budget spent: the double-layer roof m = 10, every critical λ, mode and trial count.
+    /// </summary>
+    [Fact]
+    public void Critical_point_location_is_bit_identical_with_and_without_helper_threads()
+    {
+        var def = PathService.Bench.Models.SpaceTrussRoof.Create(10);
+        List<Continuation.PathEvent> Run() => new Continuation.PathTracer(StructuralModel.Create(def), new Continuation.SolverControls
+        {
+            InitialLoadIncrement = 0.5, MaxPoints = 60,
+        }).Trace().ToList();
+        var shared = Run();
+        List<Continuation.PathEvent> alone;
+        using (SpendBudget()) alone = Run();
+        var a = shared.OfType<Continuation.CriticalPoint>().ToList();
+        var b = alone.OfType<Continuation.CriticalPoint>().ToList();
+        Assert.NotEmpty(a);
+        Assert.Equal(a.Select(c => c.LoadFactor), b.Select(c => c.LoadFactor));
+        Assert.Equal(a.SelectMany(c => c.Mode), b.SelectMany(c => c.Mode));
+        var sa = (Continuation.PathSummary)shared[^1];
+        var sb = (Continuation.PathSummary)alone[^1];
+        Assert.Equal(sa.CriticalPointTrials, sb.CriticalPointTrials);
+        Assert.Equal(sa.CriticalPointSolves, sb.CriticalPointSolves);
+    }
 }
