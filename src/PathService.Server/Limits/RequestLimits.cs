@@ -22,6 +22,20 @@ public sealed class RequestLimits(IOptions<PathServiceOptions> options)
             throw RpcErrors.TooLarge("model.nodes", "model.nodes", $"the model has {model.Nodes.Count} nodes; this server accepts at most {_l.MaxNodes}");
         if (model.Bars.Count > _l.MaxBars)
             throw RpcErrors.TooLarge("model.bars", "model.bars", $"the model has {model.Bars.Count} bars; this server accepts at most {_l.MaxBars}");
+        // Beams are members as bars are, and a subdivided beam adds n − 1 nodes and n elements: both count.
+        long elements = 0, generated = 0;
+        foreach (var beam in model.Beams)
+        {
+            long n = beam.HasSubdivisions ? Math.Max(1, beam.Subdivisions) : 1;
+            elements += n;
+            generated += n - 1;
+        }
+        if (model.Bars.Count + elements > _l.MaxBars)
+            throw RpcErrors.TooLarge("model.beams", "model.bars",
+                $"the model has {model.Bars.Count} bars and {elements} beam elements ({model.Beams.Count} beams with their subdivisions); this server accepts at most {_l.MaxBars} members");
+        if (model.Nodes.Count + generated > _l.MaxNodes)
+            throw RpcErrors.TooLarge("model.beams", "model.nodes",
+                $"the model has {model.Nodes.Count} nodes and its beam subdivisions add {generated}; this server accepts at most {_l.MaxNodes} nodes");
         // Springs have a limit of their own (Limits:MaxSprings): ground and link springs together.
         int springs = model.GroundSprings.Count + model.LinkSprings.Count;
         if (springs > _l.MaxSprings)
