@@ -1,6 +1,6 @@
 // Bench command: trace (one arc-length trace of a generated roof with its cost breakdown), scaling (one
 // factorisation per roof size and ordering), sensitivity (design sensitivities of a critical point against one
-// factorisation), kernels (BenchmarkDotNet micro-benchmarks).
+// factorisation), frame (one trace of a rigid-jointed lattice shell of beams), kernels (BenchmarkDotNet micro-benchmarks).
 
 using PathService.Bench;
 
@@ -11,10 +11,11 @@ switch (command)
     case "trace": return TraceCommand.Run(options);
     case "scaling": return ScalingCommand.Run(options);
     case "sensitivity": return SensitivityCommand.Run(options);
+    case "frame": return FrameCommand.Run(options);
     case "kernels":
         BenchmarkDotNet.Running.BenchmarkRunner.Run<Kernels>(args: args.Skip(1).ToArray());
         return 0;
     default:
-        Console.Error.WriteLine("usage: PathService.Bench trace [--m 60] [--points 30] [--threads N] | scaling [--sizes 10,20,40,60,80,120] | sensitivity [--m 60] [--repeats 7] | kernels [BenchmarkDotNet args]");
+        Console.Error.WriteLine("usage: PathService.Bench trace [--m 60] [--points 30] [--threads N] | scaling [--sizes 10,20,40,60,80,120] | sensitivity [--m 60] [--repeats 7] | frame [--m 57] [--subdivisions 1] [--points 30] | kernels [BenchmarkDotNet args]");
         return 2;
 }

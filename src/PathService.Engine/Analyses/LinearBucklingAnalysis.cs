@@ -26,6 +26,8 @@ public static class LinearBucklingAnalysis
         double singularPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken ct = default)
     {
         if (modeCount < 1) throw new ArgumentOutOfRangeException(nameof(modeCount), "at least one mode must be requested");
+        if (model.HasBeams)
+            throw new AnalysisInputException("BEAMS_NOT_SUPPORTED", "model.beams", "linear buckling analysis is available for bars and springs only; trace the nonlinear path for a model with beams");
         ct.ThrowIfCancellationRequested();
         var sys = new EquilibriumSystem(model, singularPivotRatio, ordering);
         ct.ThrowIfCancellationRequested();

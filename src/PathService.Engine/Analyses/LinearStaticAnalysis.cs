@@ -49,6 +49,8 @@ public static class LinearStaticAnalysis
     public static LinearStaticResult Run(StructuralModel model, double loadFactor = 1.0, bool includeConstant = true,
         double singularPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken cancellationToken = default)
     {
+        if (model.HasBeams)
+            throw new AnalysisInputException("BEAMS_NOT_SUPPORTED", "model.beams", "linear static analysis is available for bars and springs only; trace the nonlinear path for a model with beams");
         cancellationToken.ThrowIfCancellationRequested();
         var sys = new Continuation.EquilibriumSystem(model, singularPivotRatio, ordering);
         var u0 = new double[3 * model.NodeCount];

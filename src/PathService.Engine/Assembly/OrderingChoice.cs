@@ -42,7 +42,7 @@ public static class OrderingChoice
         var clock = Stopwatch.StartNew();
         var fullOf = model.Dofs.FullOf;
         var nodeOf = new int[pattern.Size];
-        for (int e = 0; e < nodeOf.Length; e++) nodeOf[e] = fullOf[e] / 3;
+        for (int e = 0; e < nodeOf.Length; e++) nodeOf[e] = model.Dofs.NodeOf[fullOf[e]];
         var perm = GeometricNestedDissection.Order(pattern, nodeOf, model.Coordinates);
         return LdlSymbolic.FromPermutation(pattern, perm, OrderingMethod.NestedDissection, clock.Elapsed);
     }

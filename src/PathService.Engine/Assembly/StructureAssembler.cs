@@ -18,23 +18,28 @@ public enum TangentParts
 /// <summary>
 /// Builds the sparse pattern of the free-DOF tangent once per model, with element-to-slot maps so that
 /// assembly writes straight into the factor's input array without searching; then evaluates internal forces
-/// and tangents for any displacement state. Deterministic: every entry sums its element contributions in model
-/// order, whether the per-element work and the sums are shared among threads (large models) or not.
+/// and tangents for any configuration. The elements come in kinds (<see cref="ElementKind"/>: bars, then beams), each
+/// declaring its nodal unknowns and how its element matrix and force are stored; the assembler knows no element's
+/// mechanics. Deterministic: every entry sums its element contributions in model order (kind, then element), whether the
+/// per-element work and the sums are shared among threads (large models) or not.
 /// </summary>
 public sealed class StructureAssembler
 {
     private readonly StructuralModel _m;
+    private readonly ElementKind[] _kinds;
+    private readonly int[] _blockBase, _forceBase, _elementBase; // per kind: first stored number / first element in the global order
+    private readonly int _elementCount;
     private readonly int[] _barSlots;     // 21 upper-triangle slots of the 6×6 bar matrix per bar, -1 where a DOF is restrained
     private readonly int[] _groundSlots;  // one diagonal slot per ground spring, -1 when restrained
     private readonly int[] _linkSlots;    // 3 slots (ii, ij, jj) per link spring
 
     // Gather form of the assembly (deterministic in parallel, same sums in the same order as the sequential loops):
-    // per bar the 6 block entries (tangent) or 3 force components are computed independently, then every slot
-    // (or DOF) adds its contributions in bar order. Code = 2 * (index into the per-bar buffer) + (1 if subtracted).
+    // per element its tangent or force numbers are computed independently, then every slot (or DOF) adds its
+    // contributions in element order. Code = 2 * (index into the stored numbers) + (1 if subtracted).
     private readonly int[] _slotPtr, _slotCode;
     private readonly int[] _dofPtr, _dofCode;
-    private readonly double[] _barBlock;   // 6 per bar
-    private readonly double[] _barForce;   // 3 per bar
+    private readonly double[] _blocks;   // BlockSize per element, kinds one after the other
+    private readonly double[] _forces;   // ForceSize per element
     private readonly WorkerTeam _team;
     private readonly AssemblyWork _work;
     private const int ParallelBarThreshold = 4000;
@@ -47,6 +52,10 @@ public sealed class StructureAssembler
 
     public SymmetricPattern Pattern { get; }
     public StructuralModel Model => _m;
+    /// <summary>The element kinds in assembly order: bars, then beams.</summary>
+    public IReadOnlyList<ElementKind> Kinds => _kinds;
+    /// <summary>The beam kind (its results: local end forces).</summary>
+    public BeamElementKind Beams { get; }
 
     // Local (r, c) pairs of the upper triangle of a 6×6 symmetric matrix, row-major.
     private static readonly (int R, int C)[] Upper6 = BuildUpper6();
@@ -55,29 +64,52 @@ public sealed class StructureAssembler
     {
         _m = model;
         PlasticStrain = new double[model.BarCount];
-        var eq = model.Dofs.EquationOf;
-        var entries = new List<(int, int)>(model.BarCount * 21 + 16);
-        for (int b = 0; b < model.BarCount; b++)
-            foreach (var (r, c) in Upper6)
-            {
-                int er = eq[BarDof(b, r)], ec = eq[BarDof(b, c)];
-                if (er >= 0 && ec >= 0) entries.Add((er, ec));
-            }
+        Beams = new BeamElementKind(model);
+        _kinds = [new BarElementKind(model, PlasticStrain), Beams];
+        var map = model.Dofs;
+        var eq = map.EquationOf;
+        _blockBase = new int[_kinds.Length];
+        _forceBase = new int[_kinds.Length];
+        _elementBase = new int[_kinds.Length];
+        int blocks = 0, forces = 0, elements = 0, upper = 0;
+        for (int k = 0; k < _kinds.Length; k++)
+        {
+            _blockBase[k] = blocks; _forceBase[k] = forces; _elementBase[k] = elements;
+            blocks += _kinds[k].Count * _kinds[k].BlockSize;
+            forces += _kinds[k].Count * _kinds[k].ForceSize;
+            elements += _kinds[k].Count;
+            upper += _kinds[k].Count * _kinds[k].TangentLayout.Length;
+        }
+        _elementCount = elements;
+
+        // Slot of every upper-triangle entry of every element matrix (-1 where a DOF is restrained or absent).
+        var elementSlots = new int[upper];
+        var entries = new List<(int, int)>(upper + 16);
+        int q0 = 0;
+        foreach (var kind in _kinds)
+            for (int el = 0; el < kind.Count; el++)
+                foreach (var (r, c, _, _) in kind.TangentLayout)
+                {
+                    int fr = kind.FullDof(map, el, r), fc = kind.FullDof(map, el, c);
+                    int er = fr >= 0 ? eq[fr] : -1, ec = fc >= 0 ? eq[fc] : -1;
+                    if (er >= 0 && ec >= 0) entries.Add((er, ec));
+                }
         for (int s = 0; s < model.LinkSpringStiffness.Length; s++)
         {
             int ei = eq[model.LinkSpringStartDof[s]], ej = eq[model.LinkSpringEndDof[s]];
             if (ei >= 0 && ej >= 0) entries.Add((ei, ej));
         }
-        Pattern = SymmetricPattern.FromEntries(model.Dofs.FreeCount, entries);
+        Pattern = SymmetricPattern.FromEntries(map.FreeCount, entries);
 
-        _barSlots = new int[model.BarCount * 21];
-        for (int b = 0; b < model.BarCount; b++)
-            for (int t = 0; t < 21; t++)
-            {
-                var (r, c) = Upper6[t];
-                int er = eq[BarDof(b, r)], ec = eq[BarDof(b, c)];
-                _barSlots[21 * b + t] = er >= 0 && ec >= 0 ? Pattern.FindSlot(er, ec) : -1;
-            }
+        foreach (var kind in _kinds)
+            for (int el = 0; el < kind.Count; el++)
+                foreach (var (r, c, _, _) in kind.TangentLayout)
+                {
+                    int fr = kind.FullDof(map, el, r), fc = kind.FullDof(map, el, c);
+                    int er = fr >= 0 ? eq[fr] : -1, ec = fc >= 0 ? eq[fc] : -1;
+                    elementSlots[q0++] = er >= 0 && ec >= 0 ? Pattern.FindSlot(er, ec) : -1;
+                }
+        _barSlots = elementSlots[..(21 * model.BarCount)];
         _groundSlots = model.GroundSpringDof.Select(d => eq[d] >= 0 ? Pattern.FindSlot(eq[d], eq[d]) : -1).ToArray();
         _linkSlots = new int[3 * model.LinkSpringStiffness.Length];
         for (int s = 0; s < model.LinkSpringStiffness.Length; s++)
@@ -88,42 +120,47 @@ public sealed class StructureAssembler
             _linkSlots[3 * s + 2] = ej >= 0 ? Pattern.FindSlot(ej, ej) : -1;
         }
 
-        // Contributions of the bars to each slot, in the order of the sequential loop (bar, then t).
+        // Contributions of the elements to each slot, in the order of the sequential loop (kind, element, layout entry).
         _slotPtr = new int[Pattern.NonZeroCount + 1];
-        for (int q = 0; q < _barSlots.Length; q++) if (_barSlots[q] >= 0) _slotPtr[_barSlots[q] + 1]++;
+        foreach (int slot in elementSlots) if (slot >= 0) _slotPtr[slot + 1]++;
         for (int q = 0; q < Pattern.NonZeroCount; q++) _slotPtr[q + 1] += _slotPtr[q];
         _slotCode = new int[_slotPtr[Pattern.NonZeroCount]];
         var fill = (int[])_slotPtr.Clone();
-        for (int b = 0; b < model.BarCount; b++)
-            for (int t = 0; t < 21; t++)
-            {
-                int slot = _barSlots[21 * b + t];
-                if (slot < 0) continue;
-                var (r, c) = Upper6[t];
-                int entry = 6 * b + BarKinematics.BlockEntry(r % 3, c % 3);
-                _slotCode[fill[slot]++] = 2 * entry + ((r < 3) == (c < 3) ? 0 : 1);
-            }
-        // Contributions of the bars to each full DOF: start node subtracts, end node adds.
-        int fullCount = 3 * model.NodeCount;
+        q0 = 0;
+        for (int k = 0; k < _kinds.Length; k++)
+        {
+            var kind = _kinds[k];
+            for (int el = 0; el < kind.Count; el++)
+                foreach (var (_, _, entry, negate) in kind.TangentLayout)
+                {
+                    int slot = elementSlots[q0++];
+                    if (slot < 0) continue;
+                    _slotCode[fill[slot]++] = 2 * (_blockBase[k] + kind.BlockSize * el + entry) + (negate ? 1 : 0);
+                }
+        }
+        // Contributions of the elements to each full DOF (a bar: the start node subtracts, the end node adds).
+        int fullCount = map.FullCount;
         _dofPtr = new int[fullCount + 1];
-        for (int b = 0; b < model.BarCount; b++)
-            for (int k = 0; k < 3; k++) { _dofPtr[3 * model.BarStart[b] + k + 1]++; _dofPtr[3 * model.BarEnd[b] + k + 1]++; }
+        foreach (var kind in _kinds)
+            for (int el = 0; el < kind.Count; el++)
+                foreach (var (local, _, _) in kind.ForceLayout)
+                    if (kind.FullDof(map, el, local) is var d and >= 0) _dofPtr[d + 1]++;
         for (int d = 0; d < fullCount; d++) _dofPtr[d + 1] += _dofPtr[d];
         _dofCode = new int[_dofPtr[fullCount]];
         fill = (int[])_dofPtr.Clone();
-        for (int b = 0; b < model.BarCount; b++)
-            for (int k = 0; k < 3; k++)
-            {
-                _dofCode[fill[3 * model.BarStart[b] + k]++] = 2 * (3 * b + k) + 1;
-                _dofCode[fill[3 * model.BarEnd[b] + k]++] = 2 * (3 * b + k);
-            }
-        _barBlock = new double[6 * model.BarCount];
-        _barForce = new double[3 * model.BarCount];
-        _team = new WorkerTeam(model.BarCount >= ParallelBarThreshold ? Environment.ProcessorCount : 1);
+        for (int k = 0; k < _kinds.Length; k++)
+        {
+            var kind = _kinds[k];
+            for (int el = 0; el < kind.Count; el++)
+                foreach (var (local, entry, negate) in kind.ForceLayout)
+                    if (kind.FullDof(map, el, local) is var d and >= 0)
+                        _dofCode[fill[d]++] = 2 * (_forceBase[k] + kind.ForceSize * el + entry) + (negate ? 1 : 0);
+        }
+        _blocks = new double[blocks];
+        _forces = new double[forces];
+        _team = new WorkerTeam(model.BarCount + model.Beams.Count >= ParallelBarThreshold ? Environment.ProcessorCount : 1);
         _work = new AssemblyWork(this);
     }
-
-    private int BarDof(int bar, int local) => 3 * (local < 3 ? _m.BarStart[bar] : _m.BarEnd[bar]) + local % 3;
 
     /// <summary>Internal force vector f_int(u) over all DOFs (restrained ones included: they give the reactions).</summary>
     public unsafe void InternalForce(ReadOnlySpan<double> displacement, Span<double> force)
@@ -182,13 +219,11 @@ public sealed class StructureAssembler
         }
     }
 
-    /// <summary>Stores the plastic strain of the state <paramref name="displacement"/> as the committed material history.</summary>
+    /// <summary>Stores what the converged configuration <paramref name="displacement"/> leaves behind in every element kind
+    /// (the bars' plastic strain) as the committed history.</summary>
     public void CommitMaterialState(ReadOnlySpan<double> displacement)
     {
-        if (!_m.HasMemberLaws) return;
-        var next = new double[_m.BarCount];
-        for (int b = 0; b < _m.BarCount; b++) next[b] = BarKinematics.Evaluate(_m, displacement, b, PlasticStrain[b]).PlasticStrain;
-        next.CopyTo(PlasticStrain, 0);
+        foreach (var kind in _kinds) kind.Commit(displacement);
     }
 
     /// <summary>
@@ -222,7 +257,7 @@ public sealed class StructureAssembler
             }
     }
 
-    /// <summary>The two phases of each assembly, run over a static split of bars, slots or DOFs among the threads.</summary>
+    /// <summary>The two phases of each assembly, run over a static split of elements, slots or DOFs among the threads.</summary>
     private sealed unsafe class AssemblyWork(StructureAssembler a) : ITeamWork
     {
         public enum Phase { BarBlocks, GatherBlocks, BarForces, GatherForces }
@@ -242,7 +277,7 @@ public sealed class StructureAssembler
         public void Execute(int participant)
         {
             var m = a._m;
-            int fullCount = 3 * m.NodeCount;
+            int fullCount = m.Dofs.FullCount;
             // The split follows the participants actually running (the budget may grant fewer than Threads); every
             // entry is computed by the same operations whichever part it falls in.
             int participants = a._team.Participants;
@@ -251,22 +286,15 @@ public sealed class StructureAssembler
             {
                 case Phase.BarBlocks:
                 {
-                    var (b0, b1) = Range(m.BarCount, participant, participants);
-                    var blocks = a._barBlock.AsSpan();
-                    for (int b = b0; b < b1; b++)
+                    // Each participant evaluates a contiguous range of elements in the global order (kind, element).
+                    var (g0, g1) = Range(a._elementCount, participant, participants);
+                    var stress = _stress == null ? default : new ReadOnlySpan<double>(_stress, m.BarCount);
+                    for (int k = 0; k < a._kinds.Length; k++)
                     {
-                        double L0 = m.BarLength[b], A = m.BarArea[b];
-                        var k6 = blocks.Slice(6 * b, 6);
-                        var s = BarKinematics.Evaluate(m, u, b, a.PlasticStrain[b]);
-                        switch (_parts)
-                        {
-                            case TangentParts.Consistent: BarKinematics.TangentBlock(s, s.TangentModulus, A, L0, true, k6); break;
-                            case TangentParts.MaterialOnly: BarKinematics.TangentBlock(s, s.TangentModulus, A, L0, false, k6); break;
-                            default:
-                                double g = _stress[b] * A / L0;
-                                k6.Clear(); k6[0] = g; k6[3] = g; k6[5] = g;
-                                break;
-                        }
+                        var kind = a._kinds[k];
+                        int e0 = Math.Max(g0 - a._elementBase[k], 0), e1 = Math.Min(g1 - a._elementBase[k], kind.Count);
+                        if (e0 >= e1) continue;
+                        kind.Tangents(e0, e1, u, _parts, stress, a._blocks.AsSpan(a._blockBase[k], kind.Count * kind.BlockSize));
                     }
                     break;
                 }
@@ -274,7 +302,7 @@ public sealed class StructureAssembler
                 {
                     var (q0, q1) = Range(a.Pattern.NonZeroCount, participant, participants);
                     int[] ptr = a._slotPtr, code = a._slotCode;
-                    double[] blocks = a._barBlock;
+                    double[] blocks = a._blocks;
                     for (int q = q0; q < q1; q++)
                     {
                         double v = 0;
@@ -290,13 +318,13 @@ public sealed class StructureAssembler
                 }
                 case Phase.BarForces:
                 {
-                    var (b0, b1) = Range(m.BarCount, participant, participants);
-                    double[] f = a._barForce;
-                    for (int b = b0; b < b1; b++)
+                    var (g0, g1) = Range(a._elementCount, participant, participants);
+                    for (int k = 0; k < a._kinds.Length; k++)
                     {
-                        var s = BarKinematics.Evaluate(m, u, b, a.PlasticStrain[b]);
-                        double c = m.BarArea[b] * s.Stress / m.BarLength[b];
-                        f[3 * b] = c * s.Dx; f[3 * b + 1] = c * s.Dy; f[3 * b + 2] = c * s.Dz;
+                        var kind = a._kinds[k];
+                        int e0 = Math.Max(g0 - a._elementBase[k], 0), e1 = Math.Min(g1 - a._elementBase[k], kind.Count);
+                        if (e0 >= e1) continue;
+                        kind.Forces(e0, e1, u, a._forces.AsSpan(a._forceBase[k], kind.Count * kind.ForceSize));
                     }
                     break;
                 }
@@ -304,7 +332,7 @@ public sealed class StructureAssembler
                 {
                     var (d0, d1) = Range(fullCount, participant, participants);
                     int[] ptr = a._dofPtr, code = a._dofCode;
-                    double[] f = a._barForce;
+                    double[] f = a._forces;
                     for (int d = d0; d < d1; d++)
                     {
                         double v = 0;

@@ -11,8 +11,8 @@ internal sealed class BranchWalker(TraceSession s)
 {
     private readonly double[] _dU = new double[s.Sys.FreeCount];
     private readonly double[] _newPredictor = new double[s.Sys.FreeCount];
-    private readonly double[] _previous = new double[3 * s.Model.NodeCount];
-    private readonly double[] _midpoint = new double[3 * s.Model.NodeCount];
+    private readonly double[] _previous = new double[s.Model.Dofs.FullCount];
+    private readonly double[] _midpoint = new double[s.Model.Dofs.FullCount];
     private double[]? _modeGuess;
     private double _minIncrement, _maxIncrement;
     private readonly MemberMonitor _members = new(s.Model, s.Sys);
@@ -392,10 +392,10 @@ internal sealed class BranchWalker(TraceSession s)
         return list;
     }
 
-    /// <summary>A free-DOF mode as a full vector of 3 per node, largest component 1.</summary>
+    /// <summary>A free-DOF mode as a full vector (layout of the DofMap), largest component 1.</summary>
     private double[] FullMode(double[] free)
     {
-        var modeFull = new double[3 * s.Model.NodeCount];
+        var modeFull = new double[s.Model.Dofs.FullCount];
         s.Sys.Model.Dofs.Scatter(free, modeFull);
         double peak = modeFull.MaxBy(Math.Abs);
         if (peak != 0) for (int i = 0; i < modeFull.Length; i++) modeFull[i] /= peak;

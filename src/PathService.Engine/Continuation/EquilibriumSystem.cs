@@ -9,7 +9,8 @@ namespace PathService.Engine.Continuation;
 /// The discrete equilibrium problem r(u, λ) = f_int(u) − F_const − λ F_ref = 0 on the free DOFs, with its
 /// tangent, one reusable LDLᵀ factorisation (supernodal, every solve checked by its backward error and refined when
 /// needed: <see cref="RefinedFactorization"/>) and the work vectors of an iteration (allocated once).
-/// Full vectors hold 3 entries per node; free vectors one per equation of the <see cref="DofMap"/>.
+/// Full vectors hold 3 or 6 entries per node (the <see cref="Configuration"/>: translations, and rotation vectors at
+/// rotating nodes); free vectors one per equation of the <see cref="DofMap"/> (translations and spatial spins).
 /// </summary>
 internal sealed class EquilibriumSystem
 {
@@ -40,7 +41,7 @@ internal sealed class EquilibriumSystem
         Values = new double[Assembler.Pattern.NonZeroCount];
         FreeCount = model.Dofs.FreeCount;
         _fullOf = model.Dofs.FullOf;
-        _force = new double[3 * model.NodeCount];
+        _force = new double[model.Dofs.FullCount];
         ConstantFree = new double[FreeCount];
         ReferenceFree = new double[FreeCount];
         model.Dofs.Gather(model.ConstantLoad, ConstantFree);
@@ -85,11 +86,8 @@ internal sealed class EquilibriumSystem
         return Math.Max(Math.Sqrt(s), Math.Sqrt(ReferenceNormSquared));
     }
 
-    /// <summary>u_full += δ over the free DOFs.</summary>
-    public void AddFree(Span<double> full, ReadOnlySpan<double> delta, double scale = 1.0)
-    {
-        for (int e = 0; e < FreeCount; e++) full[_fullOf[e]] += scale * delta[e];
-    }
+    /// <summary>u_full ← u_full ⊕ scale·δ over the free DOFs: translations add, rotations compose (<see cref="Configuration.Advance"/>).</summary>
+    public void AddFree(Span<double> full, ReadOnlySpan<double> delta, double scale = 1.0) => Configuration.Advance(Model.Dofs, full, delta, scale);
 
     /// <summary>Full state at a displacement and load factor: displacements, bar forces and strains, reactions.</summary>
     public StructureState Snapshot(ReadOnlySpan<double> u, double lambda)
@@ -103,12 +101,14 @@ internal sealed class EquilibriumSystem
             forces[b] = Elements.BarKinematics.AxialForce(bar, m.BarArea[b], m.BarLength[b]);
             strains[b] = bar.Strain;
         }
-        var reactions = new double[3 * m.NodeCount];
+        var reactions = new double[m.Dofs.FullCount];
         Assembler.InternalForce(u, _force);
         var eq = m.Dofs.EquationOf;
         for (int d = 0; d < reactions.Length; d++)
             if (eq[d] < 0) reactions[d] = _force[d] - m.ConstantLoad[d] - lambda * m.ReferenceLoad[d];
-        return new StructureState(u.ToArray(), forces, strains, reactions);
+        var beamForces = new double[12 * m.Beams.Count];
+        for (int e = 0; e < m.Beams.Count; e++) Assembler.Beams.EndForces(e, u, beamForces.AsSpan(12 * e, 12));
+        return new StructureState(u.ToArray(), forces, strains, reactions) { BeamEndForces = beamForces };
     }
 
     public static double Dot(ReadOnlySpan<double> a, ReadOnlySpan<double> b)

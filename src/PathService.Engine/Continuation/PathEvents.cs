@@ -6,8 +6,18 @@ public abstract record PathEvent;
 /// <summary>Stability of an equilibrium point from the inertia of its tangent (Sylvester's law of inertia).</summary>
 public enum Stability { Stable, Unstable }
 
-/// <summary>Full nodal and member state at a point. Vectors are in model order; displacements and reactions are 3 per node.</summary>
-public sealed record StructureState(double[] Displacements, double[] BarForces, double[] BarStrains, double[] Reactions);
+/// <summary>
+/// Full nodal and member state at a point. Vectors are in model order; displacements and reactions are in the layout of
+/// the model's <see cref="Model.DofMap"/>: 3 per node (translations; forces), 6 at rotating nodes (then also the rotation
+/// vector of the node; moments). Without beams that is 3 per node.
+/// </summary>
+public sealed record StructureState(double[] Displacements, double[] BarForces, double[] BarStrains, double[] Reactions)
+{
+    /// <summary>Member-end actions of every beam element (<see cref="Model.BeamElements"/> order), 12 each, in the element's
+    /// current local axes: force and moment on the member at the start (F1x, F1y, F1z, M1x, M1y, M1z), then at the end
+    /// (F2x = N, tension positive; Mx torsion, My and Mz bending).</summary>
+    public double[] BeamEndForces { get; init; } = [];
+}
 
 /// <summary>A converged equilibrium point.</summary>
 /// <param name="Index">0 for the start (λ = 0 with the constant load applied), then 1, 2, ...</param>

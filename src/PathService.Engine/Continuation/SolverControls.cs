@@ -104,8 +104,9 @@ public sealed record SolverControls
         {
             if (d is null) return;
             if (!model.TryGetNode(d.Node, out int n)) { f.Add(new(FindingSeverity.Error, FindingCode.UnknownNode, $"controls.{field}.node", d.Node, $"{field} refers to node '{d.Node}', which is not defined")); return; }
-            if (d.Direction is not (Axis.X or Axis.Y or Axis.Z)) { f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}.direction", d.Node, $"{field} direction is not one of x, y, z")); return; }
-            if (model.Dofs.EquationOf[DofMap.Full(n, d.Direction)] < 0 && field == "control_dof")
+            if (d.Direction is not (Axis.X or Axis.Y or Axis.Z or Axis.RotationX or Axis.RotationY or Axis.RotationZ)) { f.Add(new(FindingSeverity.Error, FindingCode.InvalidDirection, $"controls.{field}.direction", d.Node, $"{field} direction is not one of x, y, z or a rotation about x, y, z")); return; }
+            if (!model.Dofs.Has(n, d.Direction)) { f.Add(new(FindingSeverity.Error, FindingCode.RotationWithoutRotationalUnknowns, $"controls.{field}.direction", d.Node, $"{field} asks for {d.Direction} of node '{d.Node}', which has no rotational unknowns (no beam end holding a rotation connects to it)")); return; }
+            if (model.Dofs.EquationOf[model.Dofs.Full(n, d.Direction)] < 0 && field == "control_dof")
                 f.Add(new(FindingSeverity.Error, FindingCode.ControlConflict, $"controls.{field}", d.Node, $"control DOF {d} is restrained by a support; choose a free direction"));
         }
         if (Method is not (ContinuationMethod.LoadControl or ContinuationMethod.DisplacementControl or ContinuationMethod.ArcLength)) Add(FindingCode.UnknownOption, "method", $"unknown continuation method {(int)Method}");
@@ -138,6 +139,7 @@ public sealed record SolverControls
         if (!double.IsFinite(BranchPerturbation) || BranchPerturbation <= 0 || BranchPerturbation > 100) Err("branch_perturbation", "branch_perturbation must lie in (0, 100]");
         if (FullStateEvery < 0) Err("full_state_every", "full_state_every must be zero or positive");
         if (WallTimeLimit is { } w && w <= TimeSpan.Zero) Err("wall_time_limit", "wall_time_limit must be positive");
+        if (DesignSensitivities && model.HasBeams) Conflict("design_sensitivities", "design sensitivities are derived for bars only; this model has beams");
         if (DesignDirection is { } dd)
         {
             if (!DesignSensitivities) Missing("design_sensitivities", "a design direction needs design_sensitivities");

@@ -25,10 +25,20 @@ public static class BarKinematics
 
     /// <summary>Current chord, strain and stress of a bar from its end displacements.</summary>
     public static BarState Evaluate(ReadOnlySpan<double> coordinates, ReadOnlySpan<double> displacement,
-        int i, int j, double length0, double modulus, double initialStress)
+        int i, int j, double length0, double modulus, double initialStress) =>
+        Evaluate(coordinates, displacement, 3 * i, 3 * j, 3 * i, 3 * j, modulus, initialStress);
+
+    /// <summary>
+    /// Current chord, strain and stress of a bar whose end coordinates start at <paramref name="ca"/>, <paramref name="cb"/>
+    /// (3 per node) and whose end translations start at <paramref name="da"/>, <paramref name="db"/> (the nodes' offsets in
+    /// the <see cref="Model.DofMap"/>: equal to the coordinate offsets when no node rotates).
+    /// </summary>
+    public static BarState Evaluate(ReadOnlySpan<double> coordinates, ReadOnlySpan<double> displacement,
+        int ca, int cb, int da, int db, double modulus, double initialStress)
     {
-        int a = 3 * i, b = 3 * j;
+        int a = ca, b = cb;
         double X = coordinates[b] - coordinates[a], Y = coordinates[b + 1] - coordinates[a + 1], Z = coordinates[b + 2] - coordinates[a + 2];
+        a = da; b = db;
         double ux = displacement[b] - displacement[a], uy = displacement[b + 1] - displacement[a + 1], uz = displacement[b + 2] - displacement[a + 2];
         // ε = (x·x − X·X)/(2X·X) evaluated as (2X·Δu + Δu·Δu)/(2X·X): exactly zero at Δu = 0 and free of the
         // cancellation of two nearly equal squared lengths for small strains.
@@ -43,7 +53,8 @@ public static class BarKinematics
     /// </summary>
     public static BarState Evaluate(Model.StructuralModel m, ReadOnlySpan<double> displacement, int bar, double committedPlasticStrain)
     {
-        var s = Evaluate(m.Coordinates, displacement, m.BarStart[bar], m.BarEnd[bar], m.BarLength[bar], m.BarModulus[bar], m.BarInitialStress[bar]);
+        int i = m.BarStart[bar], j = m.BarEnd[bar];
+        var s = Evaluate(m.Coordinates, displacement, 3 * i, 3 * j, m.Dofs.Offset[i], m.Dofs.Offset[j], m.BarModulus[bar], m.BarInitialStress[bar]);
         if (!m.HasMemberLaws) return s;
         var (stress, et, ep, regime) = BarMaterial.Respond(m.BarBehavior[bar], m.BarModulus[bar], m.BarInitialStress[bar], m.BarYieldStress[bar], s.Strain, committedPlasticStrain);
         return s with { Stress = stress, TangentModulus = et, PlasticStrain = ep, Regime = regime };

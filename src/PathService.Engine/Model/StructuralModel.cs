@@ -9,9 +9,12 @@ public sealed class StructuralModel
     public ModelDefinition Definition { get; }
     public string Name => Definition.Name;
     public UnitLabels Units => Definition.Units;
+    /// <summary>Number of nodes, the generated intermediate nodes of subdivided beams included (they come last).</summary>
     public int NodeCount { get; }
+    /// <summary>Number of nodes the definition gives (indices 0..DefinedNodeCount-1 follow its order).</summary>
+    public int DefinedNodeCount { get; }
     public string[] NodeIds { get; }
-    /// <summary>Initial coordinates, 3 per node (x, y, z).</summary>
+    /// <summary>Initial coordinates, 3 per node (x, y, z), whatever the node's unknowns.</summary>
     public double[] Coordinates { get; }
 
     public int BarCount { get; }
@@ -31,6 +34,10 @@ public sealed class StructuralModel
     /// <summary>Whether any bar asks for a member check (yield stress or second moment of area given).</summary>
     public bool HasMemberChecks { get; }
 
+    /// <summary>The beam elements (after subdivision); empty for a model of bars and springs.</summary>
+    public BeamElements Beams { get; }
+    public bool HasBeams => Beams.Count > 0;
+
     public string[] GroundSpringIds { get; }
     public int[] GroundSpringDof { get; }
     public double[] GroundSpringStiffness { get; }
@@ -41,9 +48,9 @@ public sealed class StructuralModel
     public double[] LinkSpringStiffness { get; }
 
     public DofMap Dofs { get; }
-    /// <summary>Prescribed displacements in the full vector (zero where free or plainly supported).</summary>
+    /// <summary>Prescribed displacements (and rotations) in the full vector (zero where free or plainly supported).</summary>
     public double[] PrescribedDisplacement { get; }
-    /// <summary>Constant load, full vector.</summary>
+    /// <summary>Constant load (forces and, at rotating nodes, moments), full vector.</summary>
     public double[] ConstantLoad { get; }
     /// <summary>Reference load scaled by λ, full vector.</summary>
     public double[] ReferenceLoad { get; }
@@ -55,17 +62,21 @@ public sealed class StructuralModel
     {
         Definition = def;
         Warnings = warnings;
-        NodeCount = def.Nodes.Count;
-        NodeIds = def.Nodes.Select(n => n.Id).ToArray();
         _nodeIndex = new Dictionary<string, int>(StringComparer.Ordinal);
-        for (int i = 0; i < NodeCount; i++) _nodeIndex[NodeIds[i]] = i;
-        Coordinates = new double[3 * NodeCount];
-        for (int i = 0; i < NodeCount; i++)
+        var nodeIds = new List<string>(def.Nodes.Count);
+        var coordinates = new List<double>(3 * def.Nodes.Count);
+        foreach (var nd in def.Nodes)
         {
-            Coordinates[3 * i] = def.Nodes[i].X;
-            Coordinates[3 * i + 1] = def.Nodes[i].Y;
-            Coordinates[3 * i + 2] = def.Nodes[i].Z;
+            _nodeIndex[nd.Id] = nodeIds.Count;
+            nodeIds.Add(nd.Id);
+            coordinates.Add(nd.X); coordinates.Add(nd.Y); coordinates.Add(nd.Z);
         }
+        // Subdivided beams append their intermediate nodes after the defined ones.
+        Beams = new BeamElements(def, _nodeIndex, nodeIds, coordinates);
+        DefinedNodeCount = def.Nodes.Count;
+        NodeCount = nodeIds.Count;
+        NodeIds = nodeIds.ToArray();
+        Coordinates = coordinates.ToArray();
 
         BarCount = def.Bars.Count;
         BarIds = def.Bars.Select(b => b.Id).ToArray();
@@ -92,25 +103,37 @@ public sealed class StructuralModel
             BarLength[b] = Math.Sqrt(s);
         }
 
-        GroundSpringIds = def.GroundSprings.Select(s => s.Id).ToArray();
-        GroundSpringDof = def.GroundSprings.Select(s => DofMap.Full(_nodeIndex[s.Node], s.Direction)).ToArray();
-        GroundSpringStiffness = def.GroundSprings.Select(s => s.Stiffness).ToArray();
-        LinkSpringIds = def.LinkSprings.Select(s => s.Id).ToArray();
-        LinkSpringStartDof = def.LinkSprings.Select(s => DofMap.Full(_nodeIndex[s.StartNode], s.Direction)).ToArray();
-        LinkSpringEndDof = def.LinkSprings.Select(s => DofMap.Full(_nodeIndex[s.EndNode], s.Direction)).ToArray();
-        LinkSpringStiffness = def.LinkSprings.Select(s => s.Stiffness).ToArray();
-
-        PrescribedDisplacement = new double[3 * NodeCount];
+        // The DOF rule (DofMap): a node rotates iff a beam element end holding a rotation connects to it.
+        var rotating = new bool[NodeCount];
+        for (int e = 0; e < Beams.Count; e++)
+        {
+            if (Beams.StartHoldsRotation(e)) rotating[Beams.Start[e]] = true;
+            if (Beams.EndHoldsRotation(e)) rotating[Beams.End[e]] = true;
+        }
         var restrained = new List<int>();
+        var prescribed = new List<(int Node, Axis Axis, double Value)>();
         foreach (var s in def.Supports)
         {
-            if (ModelValidator.IsRotation(s.Direction)) continue; // no rotational unknowns yet (beams are wired next)
-            int d = DofMap.Full(_nodeIndex[s.Node], s.Direction);
-            restrained.Add(d);
-            PrescribedDisplacement[d] = s.PrescribedDisplacement;
+            int node = _nodeIndex[s.Node];
+            if ((int)s.Direction >= 3 && !rotating[node]) continue; // no rotational unknowns there (a validation warning says so)
+            prescribed.Add((node, s.Direction, s.PrescribedDisplacement));
         }
-        Dofs = new DofMap(NodeCount, restrained);
-        (ConstantLoad, ReferenceLoad) = LoadCombiner.Resolve(def, id => _nodeIndex[id], BarLength);
+        int[] offsets = new int[NodeCount + 1];
+        for (int n = 0; n < NodeCount; n++) offsets[n + 1] = offsets[n] + (rotating[n] ? 6 : 3);
+        foreach (var (node, axis, _) in prescribed) restrained.Add(offsets[node] + (int)axis);
+        Dofs = new DofMap(rotating, restrained);
+        PrescribedDisplacement = new double[Dofs.FullCount];
+        foreach (var (node, axis, value) in prescribed) PrescribedDisplacement[Dofs.Full(node, axis)] = value;
+
+        GroundSpringIds = def.GroundSprings.Select(s => s.Id).ToArray();
+        GroundSpringDof = def.GroundSprings.Select(s => Dofs.Full(_nodeIndex[s.Node], s.Direction)).ToArray();
+        GroundSpringStiffness = def.GroundSprings.Select(s => s.Stiffness).ToArray();
+        LinkSpringIds = def.LinkSprings.Select(s => s.Id).ToArray();
+        LinkSpringStartDof = def.LinkSprings.Select(s => Dofs.Full(_nodeIndex[s.StartNode], s.Direction)).ToArray();
+        LinkSpringEndDof = def.LinkSprings.Select(s => Dofs.Full(_nodeIndex[s.EndNode], s.Direction)).ToArray();
+        LinkSpringStiffness = def.LinkSprings.Select(s => s.Stiffness).ToArray();
+
+        (ConstantLoad, ReferenceLoad) = LoadCombiner.Resolve(def, id => _nodeIndex[id], BarLength, Dofs);
     }
 
     /// <summary>Validates and builds. Throws <see cref="ModelValidationException"/> with every error found.</summary>
@@ -129,10 +152,14 @@ public sealed class StructuralModel
         _nodeIndex.TryGetValue(id, out int i) ? i : throw new ArgumentException($"node '{id}' is not defined in model '{Name}'", nameof(id));
 
     /// <summary>Full DOF index of a (node, axis) reference.</summary>
-    public int FullDof(DofReference dof) => DofMap.Full(NodeIndex(dof.Node), dof.Direction);
+    public int FullDof(DofReference dof) => Dofs.Full(NodeIndex(dof.Node), dof.Direction);
 
     /// <summary>Node id and direction of a full DOF index.</summary>
-    public (string Node, Axis Direction) DescribeDof(int fullDof) => (NodeIds[fullDof / 3], (Axis)(fullDof % 3));
+    public (string Node, Axis Direction) DescribeDof(int fullDof)
+    {
+        var (node, axis) = Dofs.Describe(fullDof);
+        return (NodeIds[node], axis);
+    }
 
     public bool HasPrescribedDisplacements => PrescribedDisplacement.Any(v => v != 0);
     public bool HasConstantLoad => ConstantLoad.Any(v => v != 0);

@@ -39,6 +39,22 @@ public static class Imperfections
         return definition with { Nodes = nodes, Name = $"{definition.Name} (imperfection {amplitude:G4})" };
     }
 
+    /// <summary>
+    /// The translations of the defined nodes (3 per node, definition order) from a full vector in the layout of the
+    /// model's <see cref="DofMap"/> (a critical mode or a deformed shape of a model with rotating or generated nodes):
+    /// the shape <see cref="Apply"/> takes. Rotations and generated intermediate nodes are left out; a subdivided beam's
+    /// intermediate nodes are regenerated on the moved chord.
+    /// </summary>
+    public static double[] Translations(StructuralModel model, ReadOnlySpan<double> full)
+    {
+        if (full.Length != model.Dofs.FullCount)
+            throw new ArgumentException($"the vector has {full.Length} entries; the model's layout has {model.Dofs.FullCount}", nameof(full));
+        var t = new double[3 * model.DefinedNodeCount];
+        for (int k = 0; k < model.DefinedNodeCount; k++)
+            for (int q = 0; q < 3; q++) t[3 * k + q] = full[model.Dofs.Offset[k] + q];
+        return t;
+    }
+
     /// <summary>The largest horizontal extent of the model (the span used for amplitudes given as a fraction of span).</summary>
     public static double PlanSpan(ModelDefinition definition)
     {

@@ -25,8 +25,9 @@ internal static class MechanismDetector
         }
         if (eq < 0) eq = 0;
         var (node, axis) = sys.Model.DescribeDof(sys.Model.Dofs.FullOf[eq]);
+        string motion = (int)axis < 3 ? $"move in {axis.ToString().ToLowerInvariant()}" : $"rotate about {axis.ToString()[^1..].ToLowerInvariant()}";
         throw new MechanismException(node, axis,
-            $"the structure is a mechanism: node '{node}' can move in {axis.ToString().ToLowerInvariant()} without resistance " +
-            $"(singular tangent stiffness at the start). Add a bar, spring or support that restrains it.");
+            $"the structure is a mechanism: node '{node}' can {motion} without resistance " +
+            $"(singular tangent stiffness at the start). Add a {((int)axis < 3 ? "bar, beam, spring or support" : "beam end holding that rotation, a rotational spring or a rotational support")} that restrains it.");
     }
 }
