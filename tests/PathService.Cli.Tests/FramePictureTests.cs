@@ -51,7 +51,7 @@ public class FramePictureTests
         state.Bars.Add(new BarState { Bar = "brace", AxialForce = 3 });
         state.BeamElements.Add(Element("col-L", "col-L", -12, 8, 0));
         state.BeamElements.Add(Element("girder/1", "girder", 4, -8, 2));
-        state.BeamElements.Add(Element("girder/2", "girder", 4, 2, 0.1));  // 0.1 is under 2 % of 8: no ring
+        state.BeamElements.Add(Element("girder/2", "girder", 4, 2, 0.1));  // 0.1 is under 10 % of 8: no ring
         state.BeamElements.Add(Element("girder/3", "girder", 4, 0, -6));
         state.BeamElements.Add(Element("col-R", "col-R", -9, 0, 6));
         var rec = new PathRecorder();
@@ -72,7 +72,7 @@ public class FramePictureTests
         Assert.All(byClass["bar-deformed"], l => Assert.Equal("1.6", (string)l.Attribute("stroke-width")!));
         // Compressed columns red, the tensioned girder blue, as the bars.
         Assert.Equal(4, byClass["frame-deformed"].Count(l => (string)l.Attribute("stroke")! == "#b3261e"));
-        // Rings: |M| = 8, 2 and 6 at two ends each per view; 0 and 0.1 (< 2 % of 8) get none.
+        // Rings: |M| = 8, 2 and 6 at two ends each per view; 0 and 0.1 (< 10 % of 8) get none.
         var rings = byClass["moment-ring"];
         Assert.Equal(12, rings.Count);
         double Radius(XElement e) => double.Parse((string)e.Attribute("r")!, System.Globalization.CultureInfo.InvariantCulture);

@@ -45,8 +45,8 @@ internal static class DeformedShapePlot
     }
 
     private const double PanelW = 420, PanelH = 380, Margin = 40, Header = 60, Footer = 50, LegendHeight = 22;
-    /// <summary>Radius (px) of the ring of the largest end moment; rings below 2 % of the largest moment are left out.</summary>
-    private const double RingMax = 7, RingCutoff = 0.02;
+    /// <summary>Radius (px) of the ring of the largest end moment; rings below 10 % of the largest moment are left out (so the picture shows where bending concentrates).</summary>
+    private const double RingMax = 7, RingCutoff = 0.1;
     private const string Ring = "#6b4c9a";
     private const string Tension = "#1f5fa8", Compression = "#b3261e", Undeformed = "#b5b5b5";
 
