@@ -54,7 +54,7 @@ public class DemoLatticeShellTests
         Assert.Contains(svg.Descendants(), e => (string?)e.Attribute("class") == "moment-ring");
         Assert.Contains("rotation J1-00.rotation_y [rad]", Pictures.Curve(request, rec, 2));
         var table = rec.BeamForcesCsv("kN", "m")!.TrimEnd().Split('\n');
-        int states = rec.Points.Count(p => p.State is not null);
+        int states = rec.Points.Count(p => p.State is not null) + rec.Criticals.Count(c => c.State is not null); // path points, then critical points
         Assert.Equal(1 + states * 144 * 2, table.Length);
     }
 }
