@@ -35,15 +35,6 @@ internal static class UnaryCommands
         foreach (var bar in res.State.Bars) Console.WriteLine($"{bar.Bar,-14} {bar.AxialForce,18:G8}");
         Console.WriteLine($"{"node",-14} {"ux",14} {"uy",14} {"uz",14}  [{l}]");
         foreach (var n in res.State.Nodes) Console.WriteLine($"{n.Node,-14} {n.Ux,14:G6} {n.Uy,14:G6} {n.Uz,14:G6}");
-        if (res.State.BeamElements.Count > 0)
-        {
-            // Per element end, in the element's local axes: axial force and the resultant bending moment √(My² + Mz²).
-            Console.WriteLine($"{"beam element",-18} {"end",-5} {"N [" + f + "]",14} {"|M| [" + f + "·" + l + "]",16} {"T [" + f + "·" + l + "]",14}");
-            foreach (var e in res.State.BeamElements)
-                foreach (var (end, x) in new[] { ("start", e.Start), ("end", e.End) })
-                    if (x is not null)
-                        Console.WriteLine($"{e.Element,-18} {end,-5} {x.AxialForce,14:G6} {Math.Sqrt(x.MomentY * x.MomentY + x.MomentZ * x.MomentZ),16:G6} {x.Torsion,14:G6}");
-        }
         Console.WriteLine(Cautions.Short);
         return ExitCodes.Success;
     }

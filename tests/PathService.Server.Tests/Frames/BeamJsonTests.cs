@@ -94,6 +94,20 @@ public sealed class BeamJsonTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task A_linear_analysis_of_a_frame_is_refused_with_a_reason_that_says_to_trace_it()
+    {
+        // The linear analysis takes bars and springs only (docs/api.md, BEAMS_NOT_SUPPORTED): a clear 400, not a fault.
+        string json = PortalJson().Replace("\"loadCase\"", "\"loadFactor\": 1, \"loadCase\"", StringComparison.Ordinal);
+        using var response = await PostAsync("/v1/analyses:linear", json);
+        string text = await response.Content.ReadAsStringAsync();
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        using var body = JsonDocument.Parse(text);
+        Assert.Equal(9, body.RootElement.GetProperty("code").GetInt32()); // FAILED_PRECONDITION
+        Assert.Contains("BEAMS_NOT_SUPPORTED", text);
+        Assert.Contains("model.beams", text);
+    }
+
+    [Fact]
     public async Task A_misspelt_beam_field_is_refused_with_400_naming_it()
     {
         string json = PortalJson().Replace("\"torsionConstant\": 5.14e-6, \"orientation\": { \"z\": 1 }", "\"torsionKonstant\": 5.14e-6, \"orientation\": { \"z\": 1 }", StringComparison.Ordinal);
