@@ -42,7 +42,7 @@ public sealed class StructureAssembler
     private readonly double[] _forces;   // ForceSize per element
     private readonly WorkerTeam _team;
     private readonly AssemblyWork _work;
-    private const int ParallelBarThreshold = 4000;
+    private const int ParallelBarThreshold = 4000, BeamWeight = 30; // a beam costs about 30 bars (bench frame)
 
     /// <summary>
     /// Committed plastic strain of each bar (zero unless bars can yield): the material history of the last converged
@@ -158,7 +158,7 @@ public sealed class StructureAssembler
         }
         _blocks = new double[blocks];
         _forces = new double[forces];
-        _team = new WorkerTeam(model.BarCount + model.Beams.Count >= ParallelBarThreshold ? Environment.ProcessorCount : 1);
+        _team = new WorkerTeam(model.BarCount + BeamWeight * model.Beams.Count >= ParallelBarThreshold ? Environment.ProcessorCount : 1);
         _work = new AssemblyWork(this);
     }
 
