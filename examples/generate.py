@@ -167,8 +167,79 @@ def guyed_mast():
     }
 
 
+def tube(diameter, thickness):
+    """Section of a circular hollow steel tube (outer diameter, wall thickness in m): A, I (about any axis), J = 2I."""
+    outer, inner = diameter / 2, diameter / 2 - thickness
+    area = math.pi * (outer ** 2 - inner ** 2)
+    second = math.pi * (outer ** 4 - inner ** 4) / 4
+    return area, second, 2 * second
+
+
+def lattice_shell_pavilion(rings=3, radius=12.0, rise=1.0, load=10.0, subdivisions=2):
+    """A rigid-jointed single-layer lattice shell over an invented garden pavilion: a triangulated cap, 24 m across and
+    1 m high, made of 114.3 x 5 steel tubes welded at the joints. The plan is a triangular grid of hexagonal rings
+    drawn out to circles (ring k of 6k nodes at radius 12 k/3 m) on a paraboloid; the outer ring is pinned (rotations
+    free) and carries no members of its own. A suspended installation hangs from the crown and the six joints of the
+    first ring, 10 kN at each, as the reference load. Each member is divided into two elements so that it can bend
+    between the joints."""
+    area, second, torsion = tube(0.1143, 0.005)
+    shear = E_STEEL / 2.6  # common practice for steel, no source: G = E / (2 (1 + 0.3))
+    pos, ids = {}, {}
+
+    def ring_of(q, r):
+        return max(abs(q), abs(r), abs(q + r))
+
+    for q in range(-rings, rings + 1):
+        for r in range(-rings, rings + 1):
+            k = ring_of(q, r)
+            if k > rings:
+                continue
+            x, y = q + r / 2, r * math.sqrt(3) / 2
+            if k == 0:
+                ids[(q, r)], pos[(q, r)] = "crown", (0.0, 0.0)
+                continue
+            # Place ring k on a circle of radius radius k / rings, keeping the node's angle.
+            a = math.atan2(y, x)
+            rr = radius * k / rings
+            pos[(q, r)] = (rr * math.cos(a), rr * math.sin(a))
+            j = round((a % (2 * math.pi)) / (2 * math.pi / (6 * k))) % (6 * k)
+            ids[(q, r)] = f"J{k}-{j:02d}"
+    nodes, supports, loads, beams = [], [], [], []
+    for key in sorted(pos, key=lambda c: (ring_of(*c), ids[c])):
+        x, y = pos[key]
+        z = rise * (1 - (x * x + y * y) / radius ** 2)
+        nodes.append({"id": ids[key], "x": round(x, 6), "y": round(y, 6), "z": round(z, 6)})
+        if ring_of(*key) == rings:
+            supports += pin(ids[key])
+        elif ring_of(*key) <= 1:
+            loads.append({"node": ids[key], "fz": -load})
+    n = 0
+    for key in sorted(pos, key=lambda c: (ring_of(*c), ids[c])):
+        q, r = key
+        for dq, dr in ((1, 0), (0, 1), (-1, 1)):
+            other = (q + dq, r + dr)
+            if other not in pos or (ring_of(*key) == rings and ring_of(*other) == rings):
+                continue
+            n += 1
+            beams.append({"id": f"T{n:03d}", "startNode": ids[key], "endNode": ids[other],
+                          "elasticModulus": E_STEEL, "shearModulus": round(shear), "area": round(area, 9),
+                          "secondMomentY": round(second, 12), "secondMomentZ": round(second, 12), "torsionConstant": round(torsion, 12),
+                          "orientation": {"x": 0, "y": 0, "z": 1}, "subdivisions": subdivisions})
+    return {
+        "model": {"name": "pavilion lattice shell", "units": {"force": "kN", "length": "m"},
+                  "nodes": nodes, "beams": beams, "supports": supports},
+        "loadCase": {"reference": loads},
+        "controls": {"method": "CONTINUATION_METHOD_ARC_LENGTH", "initialLoadIncrement": 0.25, "maxPoints": 60,
+                     "targetLoadFactor": 3.0,
+                     "monitored": [{"node": "crown", "direction": "DIRECTION_Z"}, {"node": "J1-00", "direction": "DIRECTION_Z"},
+                                   {"node": "J1-00", "direction": "DIRECTION_ROTATION_Y"}],
+                     "fullStateEvery": 5},
+    }
+
+
 if __name__ == "__main__":
     write("market-hall-dome.json", market_hall_dome())
     write("roof-truss-spring-bearings.json", roof_truss_on_spring_bearings())
     write("guyed-mast.json", guyed_mast())
-    print("wrote market-hall-dome.json, roof-truss-spring-bearings.json, guyed-mast.json")
+    write("pavilion-lattice-shell.json", lattice_shell_pavilion())
+    print("wrote market-hall-dome.json, roof-truss-spring-bearings.json, guyed-mast.json, pavilion-lattice-shell.json")

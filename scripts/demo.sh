@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # The main job on the built-in demo, end to end on one machine: builds the server and the pathtrace client, starts
 # the server on a free loopback port, streams the market-hall dome's equilibrium path over gRPC (printed point by
-# point as it converges), writes the tables and pictures to out/demo/, and stops the server.
+# point as it converges), writes the tables and pictures to out/demo/, then traces the rigid-jointed lattice-shell
+# example on the same server into out/demo/lattice-shell/, and stops the server.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 out="${1:-out/demo}"
@@ -24,3 +25,6 @@ done
 echo "PathService listening on $url"
 dotnet src/PathService.Cli/bin/Release/net10.0/pathtrace.dll demo --server "$url" --out "$out"
 echo "open $out/curve.svg (equilibrium path) and $out/shape.svg (deformed shape); tables in $out/path.csv and $out/summary.json"
+# A rigid-jointed frame on the same server: the pavilion lattice shell snapping through (examples/README.md).
+dotnet src/PathService.Cli/bin/Release/net10.0/pathtrace.dll trace examples/pavilion-lattice-shell.json --server "$url" --out "$out/lattice-shell" --quiet
+echo "the lattice shell: $out/lattice-shell/curve.svg, $out/lattice-shell/shape.svg (tubes as hollow lines, bending as rings), $out/lattice-shell/beam-forces.csv"

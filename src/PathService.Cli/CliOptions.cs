@@ -25,9 +25,10 @@ internal static class CliOptions
     };
 
     // Outputs of trace and demo.
-    public static readonly Option<string?> Out = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg (and sensitivity.csv, sensitivity.svg with --design-sensitivities)", HelpName = "DIR" };
-    public static readonly Option<string?> DemoOut = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg (and sensitivity.csv, sensitivity.svg with --design-sensitivities)", HelpName = "DIR", Required = true };
+    public static readonly Option<string?> Out = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg (beam-forces.csv for a frame; sensitivity.csv, sensitivity.svg with --design-sensitivities)", HelpName = "DIR" };
+    public static readonly Option<string?> DemoOut = new("--out") { Description = "folder for every output: path.csv, path.jsonl, summary.json, events.csv, curve.svg, shape.svg (beam-forces.csv for a frame; sensitivity.csv, sensitivity.svg with --design-sensitivities)", HelpName = "DIR", Required = true };
     public static readonly Option<string?> Csv = new("--csv") { Description = "write the path table (one row per converged point) to FILE", HelpName = "FILE" };
+    public static readonly Option<string?> BeamForcesCsv = new("--beam-forces-csv") { Description = "write the end forces of every beam element in every full state (one row per element end) to FILE", HelpName = "FILE" };
     public static readonly Option<string?> Jsonl = new("--jsonl") { Description = "write every streamed message as one JSON line to FILE", HelpName = "FILE" };
     public static readonly Option<string?> Summary = new("--summary") { Description = "write the closing summary and critical points as JSON to FILE", HelpName = "FILE" };
     public static readonly Option<string?> CurveSvg = new("--curve-svg") { Description = "write the load-displacement curve (SVG) to FILE", HelpName = "FILE" };

@@ -33,11 +33,11 @@ internal static class CommandLine
 
         var model = ModelArgument();
         var trace = Command("trace", "trace the equilibrium path, printing each point as it converges", model,
-            Out, Csv, Jsonl, Summary, CurveSvg, ShapeSvg, CurveMonitored, ShapeAt, ShapeScale, DesignSensitivities, SensitivityCsv, SensitivitySvg, Quiet);
+            Out, Csv, BeamForcesCsv, Jsonl, Summary, CurveSvg, ShapeSvg, CurveMonitored, ShapeAt, ShapeScale, DesignSensitivities, SensitivityCsv, SensitivitySvg, Quiet);
         trace.SetAction((p, ct) => WithBackend(p, b => TraceCommand.RunAsync(b, RequestReader.Read(p.GetValue(model)!), p, Out, ct)));
 
         var demo = Command("demo", "trace the built-in market-hall dome and write every output", null,
-            DemoOut, Csv, Jsonl, Summary, CurveSvg, ShapeSvg, CurveMonitored, ShapeAt, ShapeScale, DesignSensitivities, SensitivityCsv, SensitivitySvg, Quiet);
+            DemoOut, Csv, BeamForcesCsv, Jsonl, Summary, CurveSvg, ShapeSvg, CurveMonitored, ShapeAt, ShapeScale, DesignSensitivities, SensitivityCsv, SensitivitySvg, Quiet);
         demo.SetAction((p, ct) => WithBackend(p, b => TraceCommand.RunAsync(b, RequestReader.Read(DemoModel.Path()), p, DemoOut, ct)));
 
         var check = Command("check", "validate model, load case and controls; print every finding at once", model, Json);

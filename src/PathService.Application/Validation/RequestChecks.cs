@@ -11,7 +11,7 @@ namespace PathService.Application.Validation;
 /// </summary>
 public sealed class RequestChecks(AnalysisLimits limits)
 {
-    /// <summary>Refuses (OverLimit) a model with more nodes, bars, springs or supports than the limits allow.</summary>
+    /// <summary>Refuses (OverLimit) a model with more nodes, members (bars and beam elements), springs or supports than the limits allow.</summary>
     public void ModelSize(StructureModel? model)
     {
         if (model is null) return;
@@ -20,6 +20,20 @@ public sealed class RequestChecks(AnalysisLimits limits)
             throw Refusals.TooLarge("model.nodes", "model.nodes", $"the model has {model.Nodes.Count} nodes; this server accepts at most {l.MaxNodes}");
         if (model.Bars.Count > l.MaxBars)
             throw Refusals.TooLarge("model.bars", "model.bars", $"the model has {model.Bars.Count} bars; this server accepts at most {l.MaxBars}");
+        // Beams are members as bars are, and a subdivided beam adds n − 1 nodes and n elements: both count.
+        long elements = 0, generated = 0;
+        foreach (var beam in model.Beams)
+        {
+            long n = beam.HasSubdivisions ? Math.Max(1, beam.Subdivisions) : 1;
+            elements += n;
+            generated += n - 1;
+        }
+        if (model.Bars.Count + elements > l.MaxBars)
+            throw Refusals.TooLarge("model.beams", "model.bars",
+                $"the model has {model.Bars.Count} bars and {elements} beam elements ({model.Beams.Count} beams with their subdivisions); this server accepts at most {l.MaxBars} members");
+        if (model.Nodes.Count + generated > l.MaxNodes)
+            throw Refusals.TooLarge("model.beams", "model.nodes",
+                $"the model has {model.Nodes.Count} nodes and its beam subdivisions add {generated}; this server accepts at most {l.MaxNodes} nodes");
         // Springs have a limit of their own: ground and link springs together.
         int springs = model.GroundSprings.Count + model.LinkSprings.Count;
         if (springs > l.MaxSprings)

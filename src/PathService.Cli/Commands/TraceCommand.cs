@@ -48,6 +48,8 @@ internal static class TraceCommand
             Write(Path.Combine(dir, "events.csv"), rec.EventsCsv);
             Write(Path.Combine(dir, "curve.svg"), () => Pictures.Curve(request, rec, o.GetValue(CurveMonitored) - 1));
             Write(Path.Combine(dir, "shape.svg"), () => Pictures.Shape(request, rec, o.GetValue(ShapeAt), o.GetValue(ShapeScale)));
+            if (request.Model?.Beams.Count > 0)
+                Write(Path.Combine(dir, "beam-forces.csv"), () => rec.BeamForcesCsv(Force(request), Length(request)));
             if (rec.Criticals.Any(c => c.Sensitivity is { Defined: true }))
             {
                 Write(Path.Combine(dir, "sensitivity.csv"), () => rec.SensitivityCsv(Force(request), Length(request)), NoSensitivity);
@@ -59,6 +61,7 @@ internal static class TraceCommand
         Write(o.GetValue(Summary), rec.SummaryJson);
         Write(o.GetValue(CurveSvg), () => Pictures.Curve(request, rec, o.GetValue(CurveMonitored) - 1));
         Write(o.GetValue(ShapeSvg), () => Pictures.Shape(request, rec, o.GetValue(ShapeAt), o.GetValue(ShapeScale)));
+        Write(o.GetValue(BeamForcesCsv), () => rec.BeamForcesCsv(Force(request), Length(request)));
         Write(o.GetValue(SensitivityCsv), () => rec.SensitivityCsv(Force(request), Length(request)), NoSensitivity);
         Write(o.GetValue(SensitivitySvg), () => Pictures.Sensitivity(request, rec), NoSensitivity);
         foreach (var w in written) Console.WriteLine($"wrote {w}");

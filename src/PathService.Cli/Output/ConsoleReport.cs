@@ -9,7 +9,7 @@ internal static class ConsoleReport
 {
     public static void Header(TracePathRequest request, string backend)
     {
-        Console.WriteLine($"tracing '{request.Model?.Name}' ({request.Model?.Nodes.Count} nodes, {request.Model?.Bars.Count} bars) on {backend}");
+        Console.WriteLine($"tracing '{request.Model?.Name}' ({request.Model?.Nodes.Count} nodes, {request.Model?.Bars.Count} bars{(request.Model?.Beams.Count > 0 ? $", {request.Model.Beams.Count} beams" : "")}) on {backend}");
         // The displacement column is named by its component (node.axis), the first monitored one.
         var first = request.Controls?.Monitored.FirstOrDefault();
         string component = first is null ? "displacement" : $"{first.Node}.{PathRecorder.Axis(first.Direction)}";

@@ -104,6 +104,31 @@ internal sealed class PathRecorder
         return sb.ToString();
     }
 
+    /// <summary>
+    /// End forces of every beam element in every full state of the trace (path points, then critical points), one row
+    /// per element end: where the state was taken, the element and its beam, which end, and N, V_y, V_z, T, M_y, M_z in
+    /// the element's local axes, in the request's units. Null when no state carries beam elements.
+    /// </summary>
+    public string? BeamForcesCsv(string force, string length)
+    {
+        var states = Points.Where(p => p.State is { BeamElements.Count: > 0 }).Select(p => (Where: "point", Number: p.Index, p.Branch, p.LoadFactor, p.State))
+            .Concat(Criticals.Where(c => c.State is { BeamElements.Count: > 0 }).Select(c => (Where: "critical_point", Number: c.Sequence, c.Branch, c.LoadFactor, c.State)))
+            .ToList();
+        if (states.Count == 0) return null;
+        var sb = new StringBuilder();
+        string moment = $"{force}·{length}";
+        sb.AppendLine($"state,number,branch,load_factor,element,beam,end,axial_force [{force}],shear_y [{force}],shear_z [{force}],torsion [{moment}],moment_y [{moment}],moment_z [{moment}]");
+        foreach (var (where, number, branch, lambda, state) in states)
+            foreach (var e in state.BeamElements)
+                foreach (var (end, f) in new[] { ("start", e.Start), ("end", e.End) })
+                {
+                    if (f is null) continue;
+                    sb.AppendLine(string.Join(',', where, I(number), I(branch), F(lambda), Cell(e.Element), Cell(e.Beam), end,
+                        F(f.AxialForce), F(f.ShearY), F(f.ShearZ), F(f.Torsion), F(f.MomentY), F(f.MomentZ)));
+                }
+        return sb.ToString();
+    }
+
     /// <summary>A caller's id as a CSV cell (quoted when it holds a comma, quote or line break).</summary>
     private static string Cell(string s) => s.IndexOfAny([',', '"', '\n', '\r']) < 0 ? s : "\"" + s.Replace("\"", "\"\"") + "\"";
 

@@ -30,8 +30,9 @@ internal static class Pictures
         foreach (var e in rec.MemberEvents)
             if (byIndex.TryGetValue(e.Point, out var at))
                 markers.Add(new CurveMarker(at.Monitored[which].Value, e.LoadFactor, $"member-{PathService.Client.Labels.Of(e.Kind)}", $"{e.Bar} {PathService.Client.Labels.Of(e.Kind)}"));
+        bool rotation = first is not null && first.Monitored[which].Direction is Direction.RotationX or Direction.RotationY or Direction.RotationZ;
         return LoadDisplacementPlot.Render(new CurveInput(
-            $"{Name(request)}: equilibrium path", $"displacement {dof} [{length}]", $"load factor λ (reference load in {force})",
+            $"{Name(request)}: equilibrium path", rotation ? $"rotation {dof} [rad]" : $"displacement {dof} [{length}]", $"load factor λ (reference load in {force})",
             points, markers, Cautions.Short));
     }
 
@@ -42,16 +43,26 @@ internal static class Pictures
         if (model is null) return null;
         var point = pointIndex is { } i ? rec.Points.FirstOrDefault(p => p.Index == i && p.State is not null) : rec.Points.LastOrDefault(p => p.State is not null);
         if (point?.State is null) return null;
-        var index = model.Nodes.Select((n, k) => (n.Id, k)).ToDictionary(t => t.Id, t => t.k);
-        var coords = model.Nodes.SelectMany(n => new[] { n.X, n.Y, n.Z }).ToArray();
+        // The model's nodes, then the intermediate nodes of subdivided beams, as the results list them.
+        var geometry = new FrameGeometry(model);
+        var index = geometry.Index;
+        var coords = geometry.Coordinates.ToArray();
         var disp = new double[coords.Length];
         foreach (var ns in point.State.Nodes)
             if (index.TryGetValue(ns.Node, out int k)) { disp[3 * k] = ns.Ux; disp[3 * k + 1] = ns.Uy; disp[3 * k + 2] = ns.Uz; }
         var force = point.State.Bars.ToDictionary(b => b.Bar, b => b.AxialForce);
         var bars = model.Bars.Select(b => (index[b.StartNode], index[b.EndNode])).ToArray();
         var forces = model.Bars.Select(b => force.GetValueOrDefault(b.Id)).ToArray();
+        var ends = point.State.BeamElements.GroupBy(e => e.Element).ToDictionary(g => g.Key, g => g.First());
+        var frame = geometry.Elements.Select(e => ends.TryGetValue(e.Element, out var st)
+            ? new FrameMember(e.Start, e.End, AxialForce(st), Bending(st.Start), Bending(st.End))
+            : new FrameMember(e.Start, e.End, 0, 0, 0)).ToArray();
+        string length = Unit(model.Units?.Length, "m");
         return DeformedShapePlot.Render(new ShapeInput($"{Name(request)}: deformed shape at point {point.Index}, λ = {point.LoadFactor:G5}",
-            Unit(model.Units?.Length, "m"), coords, bars, disp, forces, scale, Cautions.Short, UpAxis(request)));
+            length, coords, bars, disp, forces, scale, Cautions.Short, UpAxis(request))
+        {
+            FrameMembers = frame, MomentUnit = $"{Unit(model.Units?.Force, "kN")}·{length}",
+        });
     }
 
     /// <summary>
@@ -72,6 +83,13 @@ internal static class Pictures
         return SensitivityPlot.Render(new SensitivityInput($"{Name(request)}: where material raises λ_cr (critical point {cp.Sequence}, {kind}, λ_cr = {cp.LoadFactor:G6})",
             Unit(model.Units?.Length, "m"), coords, bars, model.Bars.Select(b => b.Id).ToArray(), gain, UpAxis(request), Cautions.Short));
     }
+
+    /// <summary>Resultant bending moment √(M_y² + M_z²) at one element end.</summary>
+    private static double Bending(BeamEndForces? f) => f is null ? 0 : Math.Sqrt(f.MomentY * f.MomentY + f.MomentZ * f.MomentZ);
+
+    /// <summary>The element's axial force (tension positive), the mean of its two ends (they differ only by the load
+    /// carried along the element, none here).</summary>
+    private static double AxialForce(BeamElementState e) => ((e.Start?.AxialForce ?? 0) + (e.End?.AxialForce ?? 0)) / 2;
 
     /// <summary>Up axis from gravity when self-weight is used, else from the resultant of the loads (see DeformedShapePlot.UpAxisOf).</summary>
     private static int UpAxis(TracePathRequest request)

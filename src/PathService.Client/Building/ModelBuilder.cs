@@ -36,6 +36,32 @@ public sealed class ModelBuilder
         return this;
     }
 
+    /// <summary>
+    /// A beam-column of a rigid-jointed frame with the given section; <paramref name="orientation"/> (global components,
+    /// not along the member) fixes its local y axis. <paramref name="configure"/> sets the optional fields (releases,
+    /// subdivisions, bow imperfection); by default both ends are rigid and the member is one straight element.
+    /// </summary>
+    public ModelBuilder Beam(string id, string startNode, string endNode, BeamSection section, (double X, double Y, double Z) orientation, Action<Beam>? configure = null)
+    {
+        var beam = new Beam
+        {
+            Id = id, StartNode = startNode, EndNode = endNode,
+            ElasticModulus = section.ElasticModulus, ShearModulus = section.ShearModulus, Area = section.Area,
+            SecondMomentY = section.SecondMomentY, SecondMomentZ = section.SecondMomentZ, TorsionConstant = section.TorsionConstant,
+            Orientation = new OrientationVector { X = orientation.X, Y = orientation.Y, Z = orientation.Z },
+        };
+        configure?.Invoke(beam);
+        _model.Beams.Add(beam);
+        return this;
+    }
+
+    /// <summary>End releases of a beam (for <see cref="Beam"/>'s configure): true releases that rotation.</summary>
+    public static BeamEndReleases Releases(bool torsion = false, bool bendingY = false, bool bendingZ = false) =>
+        new() { Torsion = torsion, BendingY = bendingY, BendingZ = bendingZ };
+
+    /// <summary>A beam end hinged for bending about both local axes that still holds torsion.</summary>
+    public static BeamEndReleases BendingHinge => Releases(bendingY: true, bendingZ: true);
+
     /// <summary>Adds the nodes and bars of a <see cref="SegmentMesh"/> (see <see cref="SegmentMesher"/>).</summary>
     public ModelBuilder Mesh(SegmentMesh mesh)
     {
@@ -52,17 +78,44 @@ public sealed class ModelBuilder
         return this;
     }
 
-    /// <summary>A prescribed displacement (length unit) of one direction of a node.</summary>
+    /// <summary>Restrains all six directions of the node (translations and rotations) at zero: a fixed support. The
+    /// rotations need a beam end holding a rotation at the node, else the service ignores them with a warning.</summary>
+    public ModelBuilder Fixed(string node) =>
+        Support(node, Direction.X, Direction.Y, Direction.Z, Direction.RotationX, Direction.RotationY, Direction.RotationZ);
+
+    /// <summary>A prescribed displacement (length unit; radians for a rotation) of one direction of a node.</summary>
     public ModelBuilder PrescribedDisplacement(string node, Direction direction, double displacement)
     {
         _model.Supports.Add(new Support { Node = node, Direction = direction, PrescribedDisplacement = displacement });
         return this;
     }
 
-    /// <summary>An elastic support of one direction of a node (force/length).</summary>
+    /// <summary>An elastic support of one direction of a node (force/length; force·length per radian for a rotation).</summary>
     public ModelBuilder GroundSpring(string id, string node, Direction direction, double stiffness)
     {
         _model.GroundSprings.Add(new GroundSpring { Id = id, Node = node, Direction = direction, Stiffness = stiffness });
+        return this;
+    }
+
+    /// <summary>An elastic restraint of one rotation of a node (force·length per radian); the node needs rotational unknowns.</summary>
+    public ModelBuilder RotationalSpring(string id, string node, Direction rotation, double stiffness)
+    {
+        if (rotation is not (Direction.RotationX or Direction.RotationY or Direction.RotationZ))
+            throw new ArgumentException($"a rotational spring needs a rotation direction, not {rotation}", nameof(rotation));
+        return GroundSpring(id, node, rotation, stiffness);
+    }
+
+    /// <summary>A moment about the global axes scaled by the load factor λ (force·length); the node needs rotational unknowns.</summary>
+    public ModelBuilder ReferenceMoment(string node, double mx, double my, double mz)
+    {
+        _loads.Reference.Add(new NodalLoad { Node = node, Mx = mx, My = my, Mz = mz });
+        return this;
+    }
+
+    /// <summary>A moment about the global axes applied in full before tracing starts (force·length).</summary>
+    public ModelBuilder ConstantMoment(string node, double mx, double my, double mz)
+    {
+        _loads.Constant.Add(new NodalLoad { Node = node, Mx = mx, My = my, Mz = mz });
         return this;
     }
 

@@ -15,14 +15,17 @@ public static class ModelMapper
     public const Axis NoAxis = (Axis)int.MinValue;
 
     /// <summary>
-    /// An unknown enum number is passed on as the number itself (unknown proto numbers are never 0..3, so they cannot
-    /// alias an engine axis), so that the validator's message shows the value the caller sent.
+    /// An unknown enum number is passed on as the number itself (unknown proto numbers are never 0..6, so they cannot
+    /// alias an engine axis 0..5), so that the validator's message shows the value the caller sent.
     /// </summary>
     public static Axis ToAxis(Direction d) => d switch
     {
         Direction.X => Axis.X,
         Direction.Y => Axis.Y,
         Direction.Z => Axis.Z,
+        Direction.RotationX => Axis.RotationX,
+        Direction.RotationY => Axis.RotationY,
+        Direction.RotationZ => Axis.RotationZ,
         Direction.Unspecified => NoAxis,
         _ => (Axis)(int)d,
     };
@@ -32,6 +35,9 @@ public static class ModelMapper
         Axis.X => Direction.X,
         Axis.Y => Direction.Y,
         Axis.Z => Direction.Z,
+        Axis.RotationX => Direction.RotationX,
+        Axis.RotationY => Direction.RotationY,
+        Axis.RotationZ => Direction.RotationZ,
         _ => Direction.Unspecified,
     };
 
@@ -63,6 +69,7 @@ public static class ModelMapper
                 SecondMoment = b.SecondMoment,
                 EffectiveLengthFactor = b.HasEffectiveLengthFactor ? b.EffectiveLengthFactor : 1.0,
             }).ToArray(),
+            Beams = model.Beams.Select(BeamMapper.ToDefinition).ToArray(),
             GroundSprings = model.GroundSprings.Select(s => new GroundSpringDefinition(s.Id, s.Node, ToAxis(s.Direction), s.Stiffness)).ToArray(),
             LinkSprings = model.LinkSprings.Select(s => new LinkSpringDefinition(s.Id, s.StartNode, s.EndNode, ToAxis(s.Direction), s.Stiffness)).ToArray(),
             Supports = model.Supports.Select(s => new SupportDefinition(s.Node, ToAxis(s.Direction), s.PrescribedDisplacement)).ToArray(),
@@ -79,5 +86,8 @@ public static class ModelMapper
 
     public static Contracts.V1.UnitLabels ToUnits(UnitLabels u) => new() { Force = u.Force, Length = u.Length };
 
-    private static Engine.Model.NodalLoad ToLoad(Contracts.V1.NodalLoad l) => new(l.Node, l.Fx, l.Fy, l.Fz);
+    public static Engine.Model.NodalLoad ToLoad(Contracts.V1.NodalLoad l) => new(l.Node, l.Fx, l.Fy, l.Fz) { Mx = l.Mx, My = l.My, Mz = l.Mz };
+
+    /// <summary>The message of an engine nodal load (forces and moments).</summary>
+    public static Contracts.V1.NodalLoad ToMessage(Engine.Model.NodalLoad l) => new() { Node = l.Node, Fx = l.Fx, Fy = l.Fy, Fz = l.Fz, Mx = l.Mx, My = l.My, Mz = l.Mz };
 }

@@ -7,8 +7,9 @@ using Proto = PathService.Contracts.V1;
 namespace PathService.Contracts.Mapping;
 
 /// <summary>
-/// Engine results → proto messages. Engine vectors are in model order (3 per node); the messages carry the caller's
-/// ids instead, so a client never has to rely on positions.
+/// Engine results → proto messages. Engine vectors are in model order in the layout of the model's DofMap (3 entries per
+/// node, 6 at a node with rotational unknowns); the messages carry the caller's ids instead, so a client never has to
+/// rely on positions.
 /// </summary>
 public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReference> monitored)
 {
@@ -180,17 +181,31 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
         _ => Proto.StopReason.Unspecified,
     };
 
-    /// <summary>Full state from per-node displacements and reactions and per-bar forces and strains; spring forces are derived here.</summary>
-    public Proto.StructureState ToState(IReadOnlyList<double> u, IReadOnlyList<double> barForces, IReadOnlyList<double>? barStrains, IReadOnlyList<double> reactions)
+    /// <summary>
+    /// Full state from per-node displacements and reactions (DofMap layout: rotations and reaction moments at rotating
+    /// nodes), per-bar forces and strains and the beam elements' member-end actions; spring forces are derived here.
+    /// </summary>
+    public Proto.StructureState ToState(IReadOnlyList<double> u, IReadOnlyList<double> barForces, IReadOnlyList<double>? barStrains, IReadOnlyList<double> reactions,
+        IReadOnlyList<double>? beamEndForces = null)
     {
         var s = new Proto.StructureState();
+        var dofs = model.Dofs;
         for (int n = 0; n < model.NodeCount; n++)
-            s.Nodes.Add(new Proto.NodeState
+        {
+            int o = dofs.Offset[n];
+            var node = new Proto.NodeState
             {
                 Node = model.NodeIds[n],
-                Ux = u[3 * n], Uy = u[3 * n + 1], Uz = u[3 * n + 2],
-                ReactionX = reactions[3 * n], ReactionY = reactions[3 * n + 1], ReactionZ = reactions[3 * n + 2],
-            });
+                Ux = u[o], Uy = u[o + 1], Uz = u[o + 2],
+                ReactionX = reactions[o], ReactionY = reactions[o + 1], ReactionZ = reactions[o + 2],
+            };
+            if (dofs.Rotates(n))
+            {
+                node.RotationX = u[o + 3]; node.RotationY = u[o + 4]; node.RotationZ = u[o + 5];
+                node.ReactionMomentX = reactions[o + 3]; node.ReactionMomentY = reactions[o + 4]; node.ReactionMomentZ = reactions[o + 5];
+            }
+            s.Nodes.Add(node);
+        }
         for (int b = 0; b < model.BarCount; b++)
             s.Bars.Add(new Proto.BarState { Bar = model.BarIds[b], AxialForce = barForces[b], Strain = barStrains?[b] ?? barForces[b] / (model.BarModulus[b] * model.BarArea[b]) });
         double[] full = u as double[] ?? u.ToArray();
@@ -198,10 +213,12 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             s.Springs.Add(new Proto.SpringState { Spring = model.GroundSpringIds[i], Force = Engine.Elements.SpringForces.GroundForce(model, full, i) });
         for (int i = 0; i < model.LinkSpringIds.Length; i++)
             s.Springs.Add(new Proto.SpringState { Spring = model.LinkSpringIds[i], Force = Engine.Elements.SpringForces.LinkForce(model, full, i) });
+        if (beamEndForces is { Count: > 0 })
+            BeamResultMapper.AddElements(model, beamEndForces, s.BeamElements);
         return s;
     }
 
-    public Proto.StructureState ToState(StructureState st) => ToState(st.Displacements, st.BarForces, st.BarStrains, st.Reactions);
+    public Proto.StructureState ToState(StructureState st) => ToState(st.Displacements, st.BarForces, st.BarStrains, st.Reactions, st.BeamEndForces);
 
     public Proto.BucklingMode ToMode(BucklingMode b)
     {
@@ -225,9 +242,16 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             target.Add(new Proto.MonitoredDisplacement { Node = monitored[i].Node, Direction = ModelMapper.ToDirection(monitored[i].Direction), Value = values[i] });
     }
 
+    /// <summary>A mode vector (DofMap layout) per node; rotation components at rotating nodes.</summary>
     private void AddVectors(Google.Protobuf.Collections.RepeatedField<Proto.NodeVector> target, double[] v)
     {
-        for (int n = 0; n < model.NodeCount && 3 * n + 2 < v.Length; n++)
-            target.Add(new Proto.NodeVector { Node = model.NodeIds[n], X = v[3 * n], Y = v[3 * n + 1], Z = v[3 * n + 2] });
+        var dofs = model.Dofs;
+        for (int n = 0; n < model.NodeCount && dofs.Offset[n + 1] <= v.Length; n++)
+        {
+            int o = dofs.Offset[n];
+            var vector = new Proto.NodeVector { Node = model.NodeIds[n], X = v[o], Y = v[o + 1], Z = v[o + 2] };
+            if (dofs.Rotates(n)) { vector.RotationX = v[o + 3]; vector.RotationY = v[o + 4]; vector.RotationZ = v[o + 5]; }
+            target.Add(vector);
+        }
     }
 }

@@ -1,0 +1,60 @@
+using System.Xml.Linq;
+using PathService.Cli.Backends;
+using PathService.Cli.Output;
+using PathService.Contracts.V1;
+
+namespace PathService.Cli.Tests;
+
+/// <summary>
+/// The rigid-jointed demo (examples/pavilion-lattice-shell.json) as a user sends it: the loaded centre snaps through its
+/// limit point and the trace follows the unstable stretch to the second limit point and on to the inverted, stable
+/// shape; the pictures and the beam force table come out of the same recording.
+/// </summary>
+public class DemoLatticeShellTests
+{
+    /// <summary>
+    /// λ_cr of the two limit points as the engine locates them (our own scenario, no outside value). Repeated traces give
+    /// the same bits (checked: differences 0); the located λ_cr carries an estimated error of 4.6e-13 and 6.5e-13, so the
+    /// tolerance is an order above that.
+    /// </summary>
+    private const double FirstLimit = 2.130715634116385, SecondLimit = 1.1342936056880013, Tolerance = 5e-12;
+
+    [Fact]
+    public async Task The_lattice_shell_traces_through_its_limit_point_and_snaps_to_the_inverted_shape()
+    {
+        var request = RequestReader.Read(Repo.Example("pavilion-lattice-shell.json"));
+        await using var backend = new InProcessBackend();
+        var rec = await Traces.RecordAsync(backend, request);
+
+        var limits = rec.Criticals.Where(c => c.Kind == CriticalPointKind.LimitPoint).ToList();
+        Assert.Equal(2, limits.Count);
+        var first = rec.Criticals[0];
+        Assert.Equal(CriticalPointKind.LimitPoint, first.Kind); // the first critical point is the snap, not a bifurcation
+        Assert.True(first.Located, first.LocationNote);
+        Assert.Equal(FirstLimit, first.LoadFactor, Tolerance);
+        Assert.Equal(SecondLimit, limits[1].LoadFactor, Tolerance);
+        Assert.Equal((0, 1), (first.NegativePivotsBefore, first.NegativePivotsAfter));
+
+        // Through it: past the first limit point λ falls on unstable points, and after the second it rises again on
+        // stable ones to the target, the crown far below where it snapped.
+        var after = rec.Points.Where(p => p.Index >= first.PointAfter).ToList();
+        Assert.Contains(after, p => p.Stability == Stability.Unstable && p.LoadFactor < first.LoadFactor - 0.5);
+        var last = rec.Points[^1];
+        Assert.Equal(Stability.Stable, last.Stability);
+        Assert.True(last.LoadFactor >= 3.0, $"λ = {last.LoadFactor}");
+        Assert.Equal(StopReason.TargetLoadFactorReached, rec.Summary!.Reason);
+        double crownAtSnap = first.Monitored[0].Value, crownAtEnd = last.Monitored[0].Value;
+        Assert.True(crownAtEnd < 5 * crownAtSnap && crownAtEnd < -1.0, $"crown at the snap {crownAtSnap}, at the end {crownAtEnd}");
+
+        // The last point carries the state: every element of every subdivided tube, drawn as a frame member.
+        Assert.Equal(144, last.State.BeamElements.Count);
+        Assert.Equal(37 + 72, last.State.Nodes.Count);
+        var svg = XDocument.Parse(Pictures.Shape(request, rec, null, null)!);
+        Assert.Equal(2 * 144, svg.Descendants().Count(e => (string?)e.Attribute("class") == "frame-deformed"));
+        Assert.Contains(svg.Descendants(), e => (string?)e.Attribute("class") == "moment-ring");
+        Assert.Contains("rotation J1-00.rotation_y [rad]", Pictures.Curve(request, rec, 2));
+        var table = rec.BeamForcesCsv("kN", "m")!.TrimEnd().Split('\n');
+        int states = rec.Points.Count(p => p.State is not null) + rec.Criticals.Count(c => c.State is not null); // path points, then critical points
+        Assert.Equal(1 + states * 144 * 2, table.Length);
+    }
+}
