@@ -51,9 +51,12 @@ public static class AnalysisMemory
     private static long FixedBytes(StructuralModel model, long n, int extraVectors)
     {
         long nodes = model.NodeCount, bars = model.BarCount + model.LinkSpringIds.Length + model.GroundSpringIds.Length;
-        // Upper pattern of K: a 3×3 upper block per node, a full 3×3 block per bar; values, pattern and a few copies.
-        long kEntries = 6 * nodes + 9 * bars;
+        long beams = model.Beams.Count;
+        // Upper pattern of K: a 6×6 upper block per node at most (3×3 without rotations), a full 3×3 block per bar and a
+        // full 6×6 block per beam element; values, pattern and a few copies.
+        long kEntries = (model.HasBeams ? 21 : 6) * nodes + 9 * bars + 36 * beams;
         return 512 * nodes + 512 * bars     // model arrays, ids, per-bar kinematics and scatter maps
+             + 2048 * beams                  // per beam element: reference data, stored 12×12 tangent and force, scatter map
              + 40 * kEntries                 // pattern (int), values and the copies an analysis keeps (double)
              + 8 * n * (48 + extraVectors)   // work vectors of the iteration, monitored states
              + (8L << 20);                   // fixed overhead of a call
