@@ -20,7 +20,7 @@ public class DemoDomeSensitivityTests
         var baseline = ModelMapper.ToDefinition(request.Model, request.LoadCase);
         var controls = ControlsMapper.ToControls(request.Controls) with
         {
-            StopAtFirstCriticalPoint = true, FullStateAtCriticalPoints = true, ResidualTolerance = 1e-12, CriticalPointTolerance = 1e-12,
+            StopAtFirstCriticalPoint = true, FullStateAtCriticalPoints = true, ResidualTolerance = 1e-12, CriticalPointTolerance = 1e-13,
             TargetLoadFactor = null,
         };
         CriticalPoint First(ModelDefinition def, bool sensitivities = false) =>

@@ -1,5 +1,9 @@
 using Grpc.Core;
 using Microsoft.Extensions.Options;
+using PathService.Application;
+using PathService.Application.Analyses;
+using PathService.Application.Errors;
+using PathService.Application.Validation;
 using PathService.Contracts.Mapping;
 using PathService.Contracts.V1;
 using PathService.Server.Configuration;
@@ -191,21 +195,22 @@ public class BeamMappingTests
     [Fact]
     public void Beam_elements_and_their_generated_nodes_count_against_the_member_and_node_limits()
     {
-        var limits = new RequestLimits(Options.Create(new PathServiceOptions { Limits = { MaxNodes = 10, MaxBars = 8 } }));
+        var limits = new RequestChecks(new AnalysisLimits { MaxNodes = 10, MaxBars = 8 });
         var (model, _) = FrameStructures.Portal();
-        limits.CheckModelSize(model); // 4 nodes, 3 members
+        limits.ModelSize(model); // 4 nodes, 3 members
         model.Beams[1].Subdivisions = 6; // 8 members, 9 nodes
-        limits.CheckModelSize(model);
+        limits.ModelSize(model);
         model.Beams[1].Subdivisions = 7; // 9 members
-        var members = Assert.Throws<RpcException>(() => limits.CheckModelSize(model));
-        Assert.Equal(StatusCode.ResourceExhausted, members.StatusCode);
-        Assert.Contains("9 beam elements", members.Status.Detail);
+        var members = Assert.Throws<AnalysisRefusedException>(() => limits.ModelSize(model));
+        Assert.Equal(RefusalKind.OverLimit, members.Kind);
+        Assert.Equal("model.beams", members.Field);
+        Assert.Contains("9 beam elements", members.Message);
         model.Beams[1].Subdivisions = 4; // 6 members, 4 + 3 nodes
         model.Nodes.Add(Enumerable.Range(0, 4).Select(i => new Node { Id = $"extra{i}", X = i + 10 })); // 8 nodes + 3 generated = 11
-        var nodes = Assert.Throws<RpcException>(() => limits.CheckModelSize(model));
-        Assert.Contains("subdivisions add 3", nodes.Status.Detail);
+        var nodes = Assert.Throws<AnalysisRefusedException>(() => limits.ModelSize(model));
+        Assert.Contains("subdivisions add 3", nodes.Message);
     }
 
     private static CheckModelResponse Check(StructureModel model, LoadCase loads) =>
-        ModelCheck.Run(new CheckModelRequest { Model = model, LoadCase = loads }, 100, null).Response;
+        ModelCheck.Run(new CheckModelRequest { Model = model, LoadCase = loads }, new AnalysisLimits());
 }
