@@ -101,7 +101,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         _work = new double[n];
         _dU = new double[n];
         _kv = new double[sys.Values.Length];
-        _uh = new double[3 * sys.Model.NodeCount];
+        _uh = new double[sys.Model.Dofs.FullCount];
         _kphi = new double[n];
         for (int e = 0; e < n; e++) _d[e] = ub[fullOf[e]] - ua[fullOf[e]];
         _dl = lambdaB - lambdaA;
