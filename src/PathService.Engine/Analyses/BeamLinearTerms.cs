@@ -8,8 +8,9 @@ namespace PathService.Engine.Analyses;
 /// that the linear and the nonlinear analyses share one element: the stiffness at rest K_e(0) (the kernel's tangent in
 /// the undeformed configuration, which is the linear 3D frame element; W. McGuire, R. H. Gallagher and R. D. Ziemian,
 /// "Matrix Structural Analysis", 2000, ch. 4, from memory), the linear internal force K_e(0)·u_e, the linear member-end
-/// actions, and the geometric stiffness of a linear state as the directional derivative of the tangent,
-/// K_G[u] = [K_T(h u) − K_T(−h u)]/(2h) (central difference; theory §"Linear analyses with beams").
+/// actions, and the geometric stiffness of a linear state: for beams the directional derivative of the tangent,
+/// K_G[u] = [K_T(h u) − K_T(−h u)]/(2h) (central difference; theory §"Linear analyses with beams"), for bars their
+/// explicit stress block as in a model without beams.
 /// </summary>
 internal sealed class BeamLinearTerms
 {
@@ -98,19 +99,45 @@ internal sealed class BeamLinearTerms
     }
 
     /// <summary>
-    /// values ← [K_T(h u) − K_T(−h u)]/(2h) on the free pattern: the change of the whole tangent per unit of the linear state
-    /// u (bars, beams; springs cancel). The configurations ±h·u are the configuration update from rest by ±h times the
-    /// linear increment: translations scale, the rotation of a node is exp(±h θ̂).
+    /// values ← geometric stiffness of the linear state u on the free pattern: for the beams [K_T(h u) − K_T(−h u)]/(2h),
+    /// the change of their tangent per unit of u; for the bars their explicit S·A/L0 block with the linear stress
+    /// <paramref name="barStress"/> (as without beams: the bars' own central difference is taken out again, since it would
+    /// add their initial-displacement term, which on a shallow truss triples the geometric effect); springs cancel.
+    /// The configurations ±h·u are the configuration update from rest by ±h times the linear increment: translations
+    /// scale, the rotation of a node is exp(±h θ̂).
     /// </summary>
-    public void GeometricStiffness(ReadOnlySpan<double> u, double[] values)
+    public void GeometricStiffness(ReadOnlySpan<double> u, ReadOnlySpan<double> barStress, double[] values)
     {
         Array.Clear(values);
         double h = Step(u);
-        if (h == 0) return;
-        var minus = new double[values.Length];
-        _asm.Tangent(Scaled(u, h), values);
-        _asm.Tangent(Scaled(u, -h), minus);
-        for (int i = 0; i < values.Length; i++) values[i] = (values[i] - minus[i]) / (2 * h);
+        if (h > 0)
+        {
+            var minus = new double[values.Length];
+            var up = Scaled(u, h);
+            var um = Scaled(u, -h);
+            _asm.Tangent(up, values);
+            _asm.Tangent(um, minus);
+            for (int i = 0; i < values.Length; i++) values[i] = (values[i] - minus[i]) / (2 * h);
+            Span<double> kp = stackalloc double[6];
+            Span<double> km = stackalloc double[6];
+            for (int b = 0; b < _m.BarCount; b++)
+            {
+                double A = _m.BarArea[b], L0 = _m.BarLength[b];
+                var sp = Elements.BarKinematics.Evaluate(_m, up, b, _asm.PlasticStrain[b]);
+                var sm = Elements.BarKinematics.Evaluate(_m, um, b, _asm.PlasticStrain[b]);
+                Elements.BarKinematics.TangentBlock(sp, sp.TangentModulus, A, L0, true, kp);
+                Elements.BarKinematics.TangentBlock(sm, sm.TangentModulus, A, L0, true, km);
+                for (int t = 0; t < 6; t++) kp[t] = (kp[t] - km[t]) / (2 * h);
+                _asm.AddBarMatrix(b, kp, -1.0, values);
+            }
+        }
+        Span<double> g = stackalloc double[6];
+        for (int b = 0; b < _m.BarCount; b++)
+        {
+            g.Clear();
+            g[0] = g[3] = g[5] = barStress[b] * _m.BarArea[b] / _m.BarLength[b];
+            _asm.AddBarMatrix(b, g, 1.0, values);
+        }
     }
 
     private static double[] Scaled(ReadOnlySpan<double> u, double h)

@@ -18,8 +18,9 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 /// stresses under the reference load. The lowest positive μ are found by subspace iteration with Rayleigh-Ritz
 /// (K.-J. Bathe, "Finite Element Procedures", 1996, §11.6 (from memory)) on θ = 1/μ of −K_σ φ = θ K_A φ, using the sparse LDLᵀ of K_A.
 /// It ignores the change of geometry before buckling, which is why it can overestimate a snap-through load badly.
-/// With beams present, K_σ (and the constant-load part of K_A) is the change of the whole tangent along the linear state,
-/// [K_T(h u) − K_T(−h u)]/(2h) (<see cref="BeamLinearTerms.GeometricStiffness"/>); for the corotational beam that is the
+/// With beams present, the beams' part of K_σ (and of the constant-load part of K_A) is the change of their tangent along
+/// the linear state, [K_T(h u) − K_T(−h u)]/(2h) (<see cref="BeamLinearTerms.GeometricStiffness"/>), the bars' part their
+/// explicit stress block as without beams; for the corotational beam that is the
 /// chord's N/l per element, so a member's own buckling needs subdivision (theory §"Linear analyses with beams").
 /// Without beams the bars' explicit K_σ from their linear stresses is used, unchanged.
 /// Cancelling the token stops it within one solve with <see cref="OperationCanceledException"/>.
@@ -74,13 +75,17 @@ public static class LinearBucklingAnalysis
         var refResult = LinearStaticAnalysis.Solve(model, sys, 1.0, includeConstant: false, withPrescribed: false, beams: beams);
         var kA = (double[])sys.Values.Clone();
         var kS = new double[kA.Length];
-        beams.GeometricStiffness(refResult.Displacements, kS);
+        var sRef = new double[model.BarCount];
+        for (int b = 0; b < model.BarCount; b++) sRef[b] = refResult.BarForces[b] / model.BarArea[b];
+        beams.GeometricStiffness(refResult.Displacements, sRef, kS);
         if (model.HasConstantLoad || model.HasPrescribedDisplacements || model.HasInitialStress)
         {
             // The constant state's own change of tangent; the bars' initial stress is already in K0 (at rest).
             var constResult = LinearStaticAnalysis.Solve(model, sys, 0.0, includeConstant: true, withPrescribed: true, beams: beams);
             var kc = new double[kA.Length];
-            beams.GeometricStiffness(constResult.Displacements, kc);
+            var dS = new double[model.BarCount];
+            for (int b = 0; b < model.BarCount; b++) dS[b] = constResult.BarForces[b] / model.BarArea[b] - model.BarInitialStress[b];
+            beams.GeometricStiffness(constResult.Displacements, dS, kc);
             for (int i = 0; i < kA.Length; i++) kA[i] += kc[i];
         }
         return (kA, kS);

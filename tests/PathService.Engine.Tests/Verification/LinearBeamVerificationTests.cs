@@ -182,4 +182,45 @@ public class LinearBeamVerificationTests(ITestOutputHelper output)
         // kernel-alone loads, so the difference is the linear side's (the tangent's change along u beyond the chord N/l)
         Assert.True(diff < 1e-6, $"linear {linear}, traced {cp.LoadFactor}");
     }
+
+    /// <summary>
+    /// The two-bar truss built of beams released in every rotation at both ends is the bar truss: the linear static
+    /// solution agrees to round-off. The linearised buckling load differs, and by a factor we derive: the beams' K_σ is the
+    /// change of their whole tangent, which also carries the turn of the axial stiffness with the chord (the
+    /// initial-displacement term). For a bar of chord d = L e + Δu the material block (EA/L³) d dᵀ changes by
+    /// (EA/L³)(Δu dᵀ + d Δuᵀ) per unit of Δu; in the apex's vertical direction (e_y = sin α) that is 2(EA/L²) sin α Δu_y =
+    /// 2N/L, twice the bar's explicit N/L. The symmetric (vertical) mode thus sees three times the geometric stiffness:
+    /// λ_beams = λ_bars / 3 (theory §15.x).
+    /// </summary>
+    [Fact]
+    public void Released_beam_truss_gives_the_bar_truss_linear_results()
+    {
+        const double b = 4.0, h = 0.35, ea = 2.4e5, pRef = 10.0;
+        var bars = TestModels.TwoBarTruss(b, h, ea, pRef);
+        var beams = bars with
+        {
+            Bars = [],
+            Beams = bars.Bars.Select(x => new BeamDefinition(x.Id, x.StartNode, x.EndNode, x.ElasticModulus, x.ElasticModulus / 2.6,
+                x.Area, 1e-6, 1e-6, 1e-6, (0, 0, 1)) { StartReleases = BeamEndReleases.Pinned, EndReleases = BeamEndReleases.Pinned }).ToList(),
+        };
+        var mb = StructuralModel.Create(bars);
+        var mm = StructuralModel.Create(beams);
+        var sb = LinearStaticAnalysis.Run(mb);
+        var sm = LinearStaticAnalysis.Run(mm);
+        double scale = sb.Displacements.Max(Math.Abs), worst = 0;
+        for (int n = 0; n < mb.NodeCount; n++)
+            for (int c = 0; c < 3; c++)
+                worst = Math.Max(worst, Math.Abs(sb.Displacements[3 * n + c] - sm.Displacements[mm.Dofs.Offset[n] + c]) / scale);
+        // the beams' axial end action (F2x = N, tension positive) against the bar force
+        double nWorst = 0;
+        for (int e = 0; e < 2; e++) nWorst = Math.Max(nWorst, Math.Abs(sm.BeamEndForces[12 * e + 6] - sb.BarForces[e]) / Math.Abs(sb.BarForces[e]));
+        double lb = LinearBucklingAnalysis.Run(mb, modeCount: 1).Modes[0].LoadFactor;
+        double lm = LinearBucklingAnalysis.Run(mm, modeCount: 1).Modes[0].LoadFactor;
+        double strain = Math.Abs(sb.BarForces[0]) * lb / ea;
+        output.WriteLine($"displacements {worst:E2}, axial force {nWorst:E2}, λ bars {lb:R}, beams {lm:R}, 3λm/λb − 1 {3 * lm / lb - 1:E2}, strain at λ {strain:E2}");
+        Assert.True(worst < 1e-14, $"displacements differ by {worst}");
+        Assert.True(nWorst < 5e-9, $"axial force differs by {nWorst}");
+        // measured: displacements 1.6e-16, axial force 4.0e-10 (central difference of the end actions), 3λ_beams/λ_bars − 1 = −3.4e-13
+        Assert.True(Math.Abs(3 * lm / lb - 1) < 5e-12, $"λ bars {lb}, beams {lm}");
+    }
 }
