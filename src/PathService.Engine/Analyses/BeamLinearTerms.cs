@@ -9,7 +9,7 @@ namespace PathService.Engine.Analyses;
 /// the undeformed configuration, which is the linear 3D frame element; W. McGuire, R. H. Gallagher and R. D. Ziemian,
 /// "Matrix Structural Analysis", 2000, ch. 4, from memory), the linear internal force K_e(0)·u_e, the linear member-end
 /// actions, and the geometric stiffness of a linear state: for beams the directional derivative of the tangent,
-/// K_G[u] = [K_T(h u) − K_T(−h u)]/(2h) (central difference; theory §"Linear analyses with beams"), for bars their
+/// K_G[u] = [K_T(h u) − K_T(−h u)]/(2h) (central difference; theory §15.1 "Linear analyses with beams"), for bars their
 /// explicit stress block as in a model without beams.
 /// </summary>
 internal sealed class BeamLinearTerms

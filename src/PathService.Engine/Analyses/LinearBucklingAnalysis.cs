@@ -21,7 +21,7 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 /// With beams present, the beams' part of K_σ (and of the constant-load part of K_A) is the change of their tangent along
 /// the linear state, [K_T(h u) − K_T(−h u)]/(2h) (<see cref="BeamLinearTerms.GeometricStiffness"/>), the bars' part their
 /// explicit stress block as without beams; for the corotational beam that is the
-/// chord's N/l per element, so a member's own buckling needs subdivision (theory §"Linear analyses with beams").
+/// chord's N/l per element, so a member's own buckling needs subdivision (theory §15.1 "Linear analyses with beams").
 /// Without beams the bars' explicit K_σ from their linear stresses is used, unchanged.
 /// Cancelling the token stops it within one solve with <see cref="OperationCanceledException"/>.
 /// </summary>

@@ -24,7 +24,8 @@ public sealed record LinearStaticResult(double LoadFactor, double[] Displacement
 /// Classical linear analysis at one load level F = F_const + λ·F_ref (λ = 1 by default): small displacements, linear
 /// axial strain ε = e·(u_j − u_i)/L0 with e the initial unit chord. K0 is the tangent at the undeformed state (material
 /// part plus the geometric part of any initial stress), so a prestressed cable net is handled. The comparison every
-/// engineer knows, and the start of the linearised buckling analysis.
+/// engineer knows, and the start of the linearised buckling analysis. Beams enter with the kernel's tangent at rest (the
+/// linear frame element) through <see cref="BeamLinearTerms"/>; their rotations are small angles and add (theory §15.1).
 /// </summary>
 /// <remarks>
 /// Tension-only and compression-only bars follow the member law of the trace (<see cref="Elements.BarMaterial.IsSlack"/>)

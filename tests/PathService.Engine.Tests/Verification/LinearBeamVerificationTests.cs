@@ -190,7 +190,7 @@ public class LinearBeamVerificationTests(ITestOutputHelper output)
     /// initial-displacement term). For a bar of chord d = L e + Δu the material block (EA/L³) d dᵀ changes by
     /// (EA/L³)(Δu dᵀ + d Δuᵀ) per unit of Δu; in the apex's vertical direction (e_y = sin α) that is 2(EA/L²) sin α Δu_y =
     /// 2N/L, twice the bar's explicit N/L. The symmetric (vertical) mode thus sees three times the geometric stiffness:
-    /// λ_beams = λ_bars / 3 (theory §15.x).
+    /// λ_beams = λ_bars / 3 (theory §15.1).
     /// </summary>
     [Fact]
     public void Released_beam_truss_gives_the_bar_truss_linear_results()
