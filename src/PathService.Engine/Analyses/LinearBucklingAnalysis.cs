@@ -18,6 +18,11 @@ public sealed record LinearBucklingResult(IReadOnlyList<BucklingMode> Modes, int
 /// stresses under the reference load. The lowest positive μ are found by subspace iteration with Rayleigh-Ritz
 /// (K.-J. Bathe, "Finite Element Procedures", 1996, §11.6 (from memory)) on θ = 1/μ of −K_σ φ = θ K_A φ, using the sparse LDLᵀ of K_A.
 /// It ignores the change of geometry before buckling, which is why it can overestimate a snap-through load badly.
+/// With beams present, the beams' part of K_σ (and of the constant-load part of K_A) is the change of their tangent along
+/// the linear state, [K_T(h u) − K_T(−h u)]/(2h) (<see cref="BeamLinearTerms.GeometricStiffness"/>), the bars' part their
+/// explicit stress block as without beams; for the corotational beam that is the
+/// chord's N/l per element, so a member's own buckling needs subdivision (theory §15.1 "Linear analyses with beams").
+/// Without beams the bars' explicit K_σ from their linear stresses is used, unchanged.
 /// Cancelling the token stops it within one solve with <see cref="OperationCanceledException"/>.
 /// </summary>
 public static class LinearBucklingAnalysis
@@ -26,16 +31,25 @@ public static class LinearBucklingAnalysis
         double singularPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken ct = default)
     {
         if (modeCount < 1) throw new ArgumentOutOfRangeException(nameof(modeCount), "at least one mode must be requested");
-        if (model.HasBeams)
-            throw new AnalysisInputException("BEAMS_NOT_SUPPORTED", "model.beams", "linear buckling analysis is available for bars and springs only; trace the nonlinear path for a model with beams");
         ct.ThrowIfCancellationRequested();
         var sys = new EquilibriumSystem(model, singularPivotRatio, ordering);
         ct.ThrowIfCancellationRequested();
-        var asm = sys.Assembler;
-        int n = sys.FreeCount;
-        var zero = new double[3 * model.NodeCount];
+        var zero = new double[model.Dofs.FullCount];
         MechanismDetector.ThrowIfSingular(sys, sys.Refactor(zero));
+        var beams = LinearStaticAnalysis.Beams(model, sys);
+        var (kA, kS) = beams is null ? BarOperators(model, sys, zero) : DifferenceOperators(model, sys, beams);
+        kA.CopyTo(sys.Values, 0);
+        ct.ThrowIfCancellationRequested();
+        var status = sys.Factor.Factorize(sys.Values, singularPivotRatio);
+        if (status == LdlStatus.ZeroPivot || sys.Factor.NegativePivotCount > 0)
+            throw new AnalysisInputException("UNSTABLE_START", "model", "the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
+        return Iterate(model, sys, kS, modeCount, maxIterations, tolerance, ct);
+    }
 
+    /// <summary>K_A and K_σ of a model without beams: the bars' geometric stiffness from their linear stresses.</summary>
+    private static (double[] KA, double[] KS) BarOperators(StructuralModel model, EquilibriumSystem sys, double[] zero)
+    {
+        var asm = sys.Assembler;
         // Linear stresses under the reference load and (if any) under the constant part.
         var refResult = LinearStaticAnalysis.Solve(model, sys, 1.0, includeConstant: false, withPrescribed: false);
         var sRef = new double[model.BarCount];
@@ -52,11 +66,37 @@ public static class LinearBucklingAnalysis
         }
         var kS = new double[kA.Length];
         asm.Tangent(zero, kS, TangentParts.GeometricOnly, sRef);
-        kA.CopyTo(sys.Values, 0);
-        ct.ThrowIfCancellationRequested();
-        var status = sys.Factor.Factorize(sys.Values, singularPivotRatio);
-        if (status == LdlStatus.ZeroPivot || sys.Factor.NegativePivotCount > 0)
-            throw new AnalysisInputException("UNSTABLE_START", "model", "the structure is already unstable under the constant load (its tangent is not positive definite), so a linearised buckling load is not defined");
+        return (kA, kS);
+    }
+
+    /// <summary>K_A and K_σ of a model with beams: the change of the tangent along the linear states (element-agnostic).</summary>
+    private static (double[] KA, double[] KS) DifferenceOperators(StructuralModel model, EquilibriumSystem sys, BeamLinearTerms beams)
+    {
+        var refResult = LinearStaticAnalysis.Solve(model, sys, 1.0, includeConstant: false, withPrescribed: false, beams: beams);
+        var kA = (double[])sys.Values.Clone();
+        var kS = new double[kA.Length];
+        var sRef = new double[model.BarCount];
+        for (int b = 0; b < model.BarCount; b++) sRef[b] = refResult.BarForces[b] / model.BarArea[b];
+        beams.GeometricStiffness(refResult.Displacements, sRef, kS);
+        if (model.HasConstantLoad || model.HasPrescribedDisplacements || model.HasInitialStress)
+        {
+            // The constant state's own change of tangent; the bars' initial stress is already in K0 (at rest).
+            var constResult = LinearStaticAnalysis.Solve(model, sys, 0.0, includeConstant: true, withPrescribed: true, beams: beams);
+            var kc = new double[kA.Length];
+            var dS = new double[model.BarCount];
+            for (int b = 0; b < model.BarCount; b++) dS[b] = constResult.BarForces[b] / model.BarArea[b] - model.BarInitialStress[b];
+            beams.GeometricStiffness(constResult.Displacements, dS, kc);
+            for (int i = 0; i < kA.Length; i++) kA[i] += kc[i];
+        }
+        return (kA, kS);
+    }
+
+    /// <summary>Subspace iteration on θ = 1/μ of −K_σ φ = θ K_A φ, with K_A factorised in <paramref name="sys"/>.</summary>
+    private static LinearBucklingResult Iterate(StructuralModel model, EquilibriumSystem sys, double[] kS, int modeCount, int maxIterations,
+        double tolerance, CancellationToken ct)
+    {
+        var asm = sys.Assembler;
+        int n = sys.FreeCount;
 
         int q = Math.Min(n, Math.Max(2 * modeCount, modeCount + 8));
         int p = Math.Min(modeCount, n);
@@ -138,7 +178,7 @@ public static class LinearBucklingAnalysis
         {
             if (!(theta[k] > 0)) break;
             var free = X.Column(k).ToArray();
-            var shape = new double[3 * model.NodeCount];
+            var shape = new double[model.Dofs.FullCount];
             model.Dofs.Scatter(free, shape);
             double peak = shape.MaxBy(Math.Abs);
             if (peak != 0) for (int i = 0; i < shape.Length; i++) shape[i] /= peak;

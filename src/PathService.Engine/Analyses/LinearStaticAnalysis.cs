@@ -5,9 +5,14 @@ using PathService.Engine.Stability;
 
 namespace PathService.Engine.Analyses;
 
-/// <summary>Small-displacement solution K0 u = F: displacements (3 per node), bar forces (tension positive), reactions.</summary>
+/// <summary>Small-displacement solution K0 u = F: displacements (in the <see cref="DofMap"/> layout: 3 per node, 6 at
+/// rotating nodes, the rotations as small rotation angles), bar forces (tension positive), reactions (moments at held rotations).</summary>
 public sealed record LinearStaticResult(double LoadFactor, double[] Displacements, double[] BarForces, double[] Reactions)
 {
+    /// <summary>Linear member-end actions of every beam element, 12 each, in the layout of
+    /// <see cref="Continuation.StructureState.BeamEndForces"/> (local axes of the undeformed element); empty without beams.</summary>
+    public double[] BeamEndForces { get; init; } = [];
+
     /// <summary>Ids of the tension-only and compression-only bars that are slack in this solution (they carry nothing), in model order.</summary>
     public IReadOnlyList<string> SlackBars { get; init; } = [];
 
@@ -19,7 +24,8 @@ public sealed record LinearStaticResult(double LoadFactor, double[] Displacement
 /// Classical linear analysis at one load level F = F_const + λ·F_ref (λ = 1 by default): small displacements, linear
 /// axial strain ε = e·(u_j − u_i)/L0 with e the initial unit chord. K0 is the tangent at the undeformed state (material
 /// part plus the geometric part of any initial stress), so a prestressed cable net is handled. The comparison every
-/// engineer knows, and the start of the linearised buckling analysis.
+/// engineer knows, and the start of the linearised buckling analysis. Beams enter with the kernel's tangent at rest (the
+/// linear frame element) through <see cref="BeamLinearTerms"/>; their rotations are small angles and add (theory §15.1).
 /// </summary>
 /// <remarks>
 /// Tension-only and compression-only bars follow the member law of the trace (<see cref="Elements.BarMaterial.IsSlack"/>)
@@ -49,11 +55,9 @@ public static class LinearStaticAnalysis
     public static LinearStaticResult Run(StructuralModel model, double loadFactor = 1.0, bool includeConstant = true,
         double singularPivotRatio = 1e-11, OrderingMethod ordering = OrderingMethod.Automatic, CancellationToken cancellationToken = default)
     {
-        if (model.HasBeams)
-            throw new AnalysisInputException("BEAMS_NOT_SUPPORTED", "model.beams", "linear static analysis is available for bars and springs only; trace the nonlinear path for a model with beams");
         cancellationToken.ThrowIfCancellationRequested();
         var sys = new Continuation.EquilibriumSystem(model, singularPivotRatio, ordering);
-        var u0 = new double[3 * model.NodeCount];
+        var u0 = new double[model.Dofs.FullCount];
         // The token is checked between the expensive parts (ordering, factorisation); it throws OperationCanceledException.
         cancellationToken.ThrowIfCancellationRequested();
         var oneSided = Enumerable.Range(0, model.BarCount).Where(b => model.BarBehavior[b] != Elements.BarBehavior.Elastic).ToArray();
@@ -62,7 +66,7 @@ public static class LinearStaticAnalysis
             var status = sys.Refactor(u0);
             cancellationToken.ThrowIfCancellationRequested();
             MechanismDetector.ThrowIfSingular(sys, status);
-            return Solve(model, sys, loadFactor, includeConstant, withPrescribed: true);
+            return Solve(model, sys, loadFactor, includeConstant, withPrescribed: true, beams: Beams(model, sys));
         }
         return RunActiveSet(model, sys, oneSided, loadFactor, includeConstant, singularPivotRatio, cancellationToken);
     }
@@ -71,7 +75,8 @@ public static class LinearStaticAnalysis
         double loadFactor, bool includeConstant, double singularPivotRatio, CancellationToken ct)
     {
         var asm = sys.Assembler;
-        var u0 = new double[3 * model.NodeCount];
+        var beams = Beams(model, sys);
+        var u0 = new double[model.Dofs.FullCount];
         // K0 as the trace sees it at rest, and for each one-sided bar its matrix at rest and when active (taut).
         var kRest = new double[asm.Pattern.NonZeroCount];
         asm.Tangent(u0, kRest);
@@ -122,7 +127,7 @@ public static class LinearStaticAnalysis
                 throw new MechanismException(e.NodeId, e.Direction, e.Message +
                     $" This is with the one-sided bars {Names(model, oneSided.Where(b => !active[b]))} slack (a tension-only bar in compression or a compression-only bar in tension carries nothing).");
             }
-            var result = Solve(model, sys, loadFactor, includeConstant, withPrescribed: true, active);
+            var result = Solve(model, sys, loadFactor, includeConstant, withPrescribed: true, active, beams);
 
             // Linear stress S = S0 + E e·Δu/L0 of each one-sided bar: its force when active, its gap when slack.
             double scale = 0;
@@ -190,6 +195,10 @@ public static class LinearStaticAnalysis
         }
     }
 
+    /// <summary>The beams' linear terms, or null for a model without beams (whose path then stays exactly the bar-only one).</summary>
+    internal static BeamLinearTerms? Beams(StructuralModel model, Continuation.EquilibriumSystem sys) =>
+        model.HasBeams ? new BeamLinearTerms(model, sys.Assembler) : null;
+
     private static string Names(StructuralModel model, IEnumerable<int> bars)
     {
         var ids = bars.Select(b => $"'{model.BarIds[b]}'").ToList();
@@ -200,41 +209,45 @@ public static class LinearStaticAnalysis
     private static double LinearStrain(StructuralModel m, ReadOnlySpan<double> u, int b)
     {
         int i = 3 * m.BarStart[b], j = 3 * m.BarEnd[b];
+        int di = m.Dofs.Offset[m.BarStart[b]], dj = m.Dofs.Offset[m.BarEnd[b]];
         double L0 = m.BarLength[b], ext = 0;
-        for (int c = 0; c < 3; c++) ext += (m.Coordinates[j + c] - m.Coordinates[i + c]) / L0 * (u[j + c] - u[i + c]);
+        for (int c = 0; c < 3; c++) ext += (m.Coordinates[j + c] - m.Coordinates[i + c]) / L0 * (u[dj + c] - u[di + c]);
         return ext / L0;
     }
 
     /// <summary>Solves on an already factorised K0 (shared with the buckling analysis); bars not <paramref name="active"/> carry nothing.</summary>
     internal static LinearStaticResult Solve(StructuralModel model, Continuation.EquilibriumSystem sys, double loadFactor, bool includeConstant, bool withPrescribed,
-        bool[]? active = null)
+        bool[]? active = null, BeamLinearTerms? beams = null)
     {
-        int full = 3 * model.NodeCount;
+        int full = model.Dofs.FullCount;
         var u = withPrescribed ? (double[])model.PrescribedDisplacement.Clone() : new double[full];
         var load = new double[full];
         for (int d = 0; d < full; d++) load[d] = (includeConstant ? model.ConstantLoad[d] : 0) + loadFactor * model.ReferenceLoad[d];
         // Right-hand side F_f − (K u_p)_f − f0_f, where f0 is the internal force of the initial stresses at u = 0.
         var f = new double[full];
-        LinearInternalForce(model, u, f, includePrestress: withPrescribed, active: active);
+        LinearInternalForce(model, u, f, includePrestress: withPrescribed, active: active, beams: beams);
         var rhs = new double[sys.FreeCount];
         var fullOf = model.Dofs.FullOf;
         for (int e = 0; e < rhs.Length; e++) rhs[e] = load[fullOf[e]] - f[fullOf[e]];
         sys.Factor.Solve(rhs);
-        sys.AddFree(u, rhs);
+        // Small displacements add, rotations included (no composition: the rotations are small angles here); without
+        // rotating nodes this is the configuration update the bar-only analysis always used.
+        if (beams is null) sys.AddFree(u, rhs);
+        else for (int e = 0; e < rhs.Length; e++) u[fullOf[e]] += rhs[e];
         var forces = new double[model.BarCount];
-        LinearInternalForce(model, u, f, includePrestress: withPrescribed, barForces: forces, active: active);
+        LinearInternalForce(model, u, f, includePrestress: withPrescribed, barForces: forces, active: active, beams: beams);
         var reactions = new double[full];
         var eq = model.Dofs.EquationOf;
         for (int d = 0; d < full; d++) if (eq[d] < 0) reactions[d] = f[d] - load[d];
-        return new LinearStaticResult(loadFactor, u, forces, reactions);
+        return new LinearStaticResult(loadFactor, u, forces, reactions) { BeamEndForces = beams?.EndForces(u) ?? [] };
     }
 
     /// <summary>
     /// Linearised internal force K0·u + f0 of bars and springs: for a bar, N = S0·A + (EA/L0) e·Δu along e, plus the
-    /// initial-stress term (S0 A/L0)·Δu that matches the geometric part of K0.
+    /// initial-stress term (S0 A/L0)·Δu that matches the geometric part of K0; for a beam, K_e(0)·u_e.
     /// </summary>
     internal static void LinearInternalForce(StructuralModel m, ReadOnlySpan<double> u, Span<double> f, bool includePrestress, Span<double> barForces = default,
-        bool[]? active = null)
+        bool[]? active = null, BeamLinearTerms? beams = null)
     {
         f.Clear();
         Span<double> e = stackalloc double[3];
@@ -247,12 +260,13 @@ public static class LinearStaticAnalysis
                 continue;
             }
             int i = 3 * m.BarStart[b], j = 3 * m.BarEnd[b];
+            int di = m.Dofs.Offset[m.BarStart[b]], dj = m.Dofs.Offset[m.BarEnd[b]];
             double L0 = m.BarLength[b], A = m.BarArea[b], s0 = includePrestress ? m.BarInitialStress[b] : 0.0;
             double ext = 0;
             for (int k = 0; k < 3; k++)
             {
                 e[k] = (m.Coordinates[j + k] - m.Coordinates[i + k]) / L0;
-                du[k] = u[j + k] - u[i + k];
+                du[k] = u[dj + k] - u[di + k];
                 ext += e[k] * du[k];
             }
             double n = s0 * A + m.BarModulus[b] * A / L0 * ext;
@@ -261,10 +275,11 @@ public static class LinearStaticAnalysis
             for (int k = 0; k < 3; k++)
             {
                 double t = n * e[k] + g * du[k];
-                f[i + k] -= t;
-                f[j + k] += t;
+                f[di + k] -= t;
+                f[dj + k] += t;
             }
         }
         Elements.SpringForces.AddInternalForce(m, u, f);
+        beams?.AddInternalForce(u, f);
     }
 }
