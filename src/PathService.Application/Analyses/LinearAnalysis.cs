@@ -35,7 +35,7 @@ public sealed class LinearAnalysis
             var response = new AnalyzeLinearResponse
             {
                 LoadFactor = result.LoadFactor,
-                State = new ResultMapper(_model, []).ToState(result.Displacements, result.BarForces, null, result.Reactions),
+                State = new ResultMapper(_model, []).ToState(result.Displacements, result.BarForces, null, result.Reactions, result.BeamEndForces),
                 Units = ModelMapper.ToUnits(_model.Units),
             };
             response.Warnings.AddRange(_model.Warnings.Select(ResultMapper.ToFinding));

@@ -94,17 +94,24 @@ public sealed class BeamJsonTests : IAsyncLifetime
     }
 
     [Fact]
-    public async Task A_linear_analysis_of_a_frame_is_refused_with_a_reason_that_says_to_trace_it()
+    public async Task A_linear_analysis_of_a_frame_answers_with_rotations_moments_and_beam_elements_in_equilibrium()
     {
-        // The linear analysis takes bars and springs only (docs/api.md, BEAMS_NOT_SUPPORTED): a clear 400, not a fault.
+        // 10 kN along x at the left head: the two fixed feet take it back (statics: ΣR_x = −10 kN), the heads rotate, and
+        // every beam element (the girder in 4) reports its section forces.
         string json = PortalJson().Replace("\"loadCase\"", "\"loadFactor\": 1, \"loadCase\"", StringComparison.Ordinal);
         using var response = await PostAsync("/v1/analyses:linear", json);
         string text = await response.Content.ReadAsStringAsync();
-        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.True(response.StatusCode == HttpStatusCode.OK, text);
         using var body = JsonDocument.Parse(text);
-        Assert.Equal(9, body.RootElement.GetProperty("code").GetInt32()); // FAILED_PRECONDITION
-        Assert.Contains("BEAMS_NOT_SUPPORTED", text);
-        Assert.Contains("model.beams", text);
+        var state = body.RootElement.GetProperty("state");
+        var nodes = state.GetProperty("nodes").EnumerateArray().ToDictionary(n => n.GetProperty("node").GetString()!);
+        double sumX = nodes["foot-L"].GetProperty("reactionX").GetDouble() + nodes["foot-R"].GetProperty("reactionX").GetDouble();
+        Assert.True(Math.Abs(sumX + 10) < 1e-8, $"ΣR_x = {sumX}");
+        Assert.True(nodes["head-L"].GetProperty("ux").GetDouble() > 0);
+        Assert.True(nodes["head-L"].TryGetProperty("rotationY", out var ry) && ry.GetDouble() != 0, "the loaded head rotates");
+        Assert.True(nodes["foot-L"].TryGetProperty("reactionMomentY", out var my) && my.GetDouble() != 0, "the fixed foot takes a moment");
+        var elements = state.GetProperty("beamElements").EnumerateArray().ToList();
+        Assert.Equal(6, elements.Count); // two columns and the girder's four elements
     }
 
     [Fact]
