@@ -46,7 +46,7 @@ public static class FrameCommand
                     break;
                 case CriticalPoint c:
                     critical++;
-                    Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8} (located {c.Located})");
+                    Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8} (located {c.Located}, estimated error {c.Tolerance:E1}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}){(c.Located ? "" : ": " + c.LocationNote)}");
                     break;
                 case PathSummary s:
                     summary = s;
