@@ -63,18 +63,7 @@ public class BeamEngineVerificationTests
             Supports = [.. Held("foot", Axis.X, Axis.Y), .. Held("head", Axis.Y), .. InPlane("foot", "head")],
             Loads = LoadCaseDefinition.ReferenceOnly(new NodalLoad("head", -euler, 0, 0)),
         };
-        var controls = new SolverControls
-        {
-            Method = ContinuationMethod.ArcLength,
-            InitialLoadIncrement = 0.2,
-            MaxPoints = 60,
-            ResidualTolerance = 1e-12,
-            DetectCriticalPoints = true,
-            StopAtFirstCriticalPoint = true,
-            CriticalPointTolerance = 1e-10,
-            Monitored = [new DofReference("head", Axis.X)],
-        };
-        var cp = new PathTracer(StructuralModel.Create(def), controls).Trace().OfType<CriticalPoint>().First();
+        var cp = ColumnTrace.FirstCriticalPoint(StructuralModel.Create(def));
         Assert.Equal(CriticalPointKind.Bifurcation, cp.Kind);
         Assert.True(cp.Located);
         // measured: 1.2×10⁻⁸, 2.1×10⁻⁹, 2.7×10⁻⁸ (both sides locate a zero eigenvalue of a tangent whose axial entries

@@ -163,18 +163,7 @@ public class LinearBeamVerificationTests(ITestOutputHelper output)
         double euler = Math.PI * Math.PI * E * I / (k * L * k * L);
         var model = Column(n, fixedFree, euler);
         double linear = LinearBucklingAnalysis.Run(model, modeCount: 1).Modes[0].LoadFactor;
-        var controls = new SolverControls
-        {
-            Method = ContinuationMethod.ArcLength,
-            InitialLoadIncrement = 0.2,
-            MaxPoints = 60,
-            ResidualTolerance = 1e-12,
-            DetectCriticalPoints = true,
-            StopAtFirstCriticalPoint = true,
-            CriticalPointTolerance = 1e-10,
-            Monitored = [new DofReference("head", Axis.X)],
-        };
-        var cp = new PathTracer(model, controls).Trace().OfType<CriticalPoint>().First();
+        var cp = ColumnTrace.FirstCriticalPoint(model);
         Assert.Equal(CriticalPointKind.Bifurcation, cp.Kind);
         double diff = Math.Abs(linear - cp.LoadFactor);
         output.WriteLine($"n={n} fixedFree={fixedFree}: linear {linear:R}, traced {cp.LoadFactor:R}, difference {diff:E2}");

@@ -106,7 +106,8 @@ public sealed class BeamJsonTests : IAsyncLifetime
         var state = body.RootElement.GetProperty("state");
         var nodes = state.GetProperty("nodes").EnumerateArray().ToDictionary(n => n.GetProperty("node").GetString()!);
         double sumX = nodes["foot-L"].GetProperty("reactionX").GetDouble() + nodes["foot-R"].GetProperty("reactionX").GetDouble();
-        Assert.True(Math.Abs(sumX + 10) < 1e-8, $"ΣR_x = {sumX}");
+        // Measured 2.8e-11 kN of 10 kN (rounding of the solve and the reaction sum).
+        Assert.True(Math.Abs(sumX + 10) < 3e-10, $"ΣR_x = {sumX:R}");
         Assert.True(nodes["head-L"].GetProperty("ux").GetDouble() > 0);
         Assert.True(nodes["head-L"].TryGetProperty("rotationY", out var ry) && ry.GetDouble() != 0, "the loaded head rotates");
         Assert.True(nodes["foot-L"].TryGetProperty("reactionMomentY", out var my) && my.GetDouble() != 0, "the fixed foot takes a moment");
