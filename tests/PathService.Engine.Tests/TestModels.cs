@@ -148,4 +148,36 @@ internal static class TestModels
             Loads = LoadCaseDefinition.ReferenceOnly([.. loads]),
         };
     }
+
+    /// <summary>
+    /// A row of independent spring-held posts (<see cref="SpringHeldPost"/>, each restrained out of plane), post i held
+    /// by its own spring k_i and loaded by P_ref: the tangent is block-diagonal, so each post bifurcates alone at its
+    /// own closed-form load, and posts with close springs give distinct crossings close together.
+    /// </summary>
+    public static ModelDefinition PostRow(double length, double ea, double[] springs, double pRef)
+    {
+        const double E = 2.0e8;
+        var nodes = new List<NodeDefinition>();
+        var bars = new List<BarDefinition>();
+        var springsDef = new List<GroundSpringDefinition>();
+        var supports = new List<SupportDefinition>();
+        var loads = new List<NodalLoad>();
+        for (int i = 0; i < springs.Length; i++)
+        {
+            string b = $"p{i}b", t = $"p{i}t";
+            nodes.Add(new(b, 2.0 * i, 0, 0));
+            nodes.Add(new(t, 2.0 * i, length, 0));
+            bars.Add(new($"p{i}", b, t, E, ea / E));
+            springsDef.Add(new GroundSpringDefinition($"k{i}", t, Axis.X, springs[i]));
+            supports.AddRange(Pin(b));
+            supports.Add(new(t, Axis.Z));
+            loads.Add(new(t, 0, -pRef, 0));
+        }
+        return new ModelDefinition
+        {
+            Name = $"row of {springs.Length} posts",
+            Nodes = nodes, Bars = bars, GroundSprings = springsDef, Supports = supports,
+            Loads = LoadCaseDefinition.ReferenceOnly([.. loads]),
+        };
+    }
 }

@@ -139,12 +139,12 @@ internal sealed class BranchWalker(TraceSession s)
                         // Critical-point work is timed apart (with its factorisations and their time) for the summary.
                         long started = System.Diagnostics.Stopwatch.GetTimestamp();
                         int factorizations = sys.Factorizations;
-                        long solves = sys.Refined.CheckedSolves;
+                        long solves = sys.Solves;
                         var factorTime = sys.FactorizationTime;
                         found = LocateCritical(_previous, previousLambda, b.Inertia, b.U, lambda, newInertia, b.LastPointIndex, s.Points, b.Predictor);
                         s.CriticalPointTime += System.Diagnostics.Stopwatch.GetElapsedTime(started);
                         s.CriticalPointFactorizations += sys.Factorizations - factorizations;
-                        s.CriticalPointSolves += sys.Refined.CheckedSolves - solves;
+                        s.CriticalPointSolves += sys.Solves - solves;
                         s.CriticalPointFactorizationTime += sys.FactorizationTime - factorTime;
                         bool canShorten = attempt < c.MaxCutsPerStep && Math.Abs(0.5 * increment) >= _minIncrement;
                         if (canShorten && found.Any(f => f.Folded))

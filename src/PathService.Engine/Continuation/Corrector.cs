@@ -63,9 +63,15 @@ internal sealed class Corrector(EquilibriumSystem sys)
             double dl = 0;
             if (c.Kind != ConstraintKind.Load)
             {
-                // Both right-hand sides in one pass over the factor (the solves are memory-bound).
-                Array.Copy(sys.ReferenceFree, _dut, _dut.Length);
-                sys.Factor.Solve2(_dur, _dut);
+                // Both right-hand sides in one pass over the factor (the solves are memory-bound). With a kept
+                // factorisation K⁻¹F_ref does not change between iterations: solved once, then one right-hand side
+                // (Solve2 gives bit for bit what two single solves give, so the iterates are the same).
+                if (keepFactor && it > 1) sys.Factor.Solve(_dur);
+                else
+                {
+                    Array.Copy(sys.ReferenceFree, _dut, _dut.Length);
+                    sys.Factor.Solve2(_dur, _dut);
+                }
                 if (!TryLoadCorrection(c, dU, dLam, out dl)) return Fail(CutReason.ComplexRoots, "the arc-length constraint has no real root");
             }
             else sys.Factor.Solve(_dur);

@@ -36,8 +36,10 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     /// <summary>Trials first try modified Newton with the tangent in place (the last trial's) for this many iterations.</summary>
     private const int ModifiedNewtonIterations = 12;
 
-    /// <summary>Relative change of μ that ends inverse iteration at the bracket ends.</summary>
-    private const double EndTolerance = 1e-6;
+    /// <summary>Relative residual of the Lanczos Ritz pair (or change of μ of the inverse-iteration fallback) at the bracket
+    /// ends: μ there only sets the scale and Newton's first step, whose own error is far larger than the ~10⁻⁶ relative
+    /// error of a Ritz value at this residual (it falls as the residual squared).</summary>
+    private const double EndTolerance = 1e-3;
 
     /// <summary>Trials per step over all its brackets: a bound on the work, never reached on a well-posed step.</summary>
     private const int MaxTrials = 120;
@@ -75,6 +77,9 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
 
     /// <summary>Relative error assumed of the differenced μ' in the error estimate (truncation and rounding above, with a margin).</summary>
     private const double RateError = 1e-6;
+
+    /// <summary>Relative residual of the Lanczos Ritz pair at a trial (see <see cref="NearNullMode.NearestOfSign"/>).</summary>
+    private const double TrialTolerance = 1e-6;
 
     /// <summary>Trials that went to Newton's point, and trials in all (for the tests and the bench).</summary>
     public int NewtonTrials { get; private set; }
@@ -204,98 +209,131 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             if (Math.Abs(dt) <= 1e-6 && own <= Target * tol * Math.Max(1.0, Math.Abs(end.Lambda)) && own < estimate) { best = end; estimate = own; located = true; }
         }
 
-        while (!located)
+        // A count change of k > 1 claimed at one root needs evidence that all k crossings lie within the tolerance of it
+        // (CheckMultiplicity): otherwise a Newton sequence that approached one eigenvalue's root from one side would
+        // claim every crossing of the bracket there. Evidence trials are forced at the t it asks for.
+        double? forcedT = null;
+        double[][]? confirmedModes = null;
+        double confirmedMu = 0;
+        int evidenceTrials = 0, nudges = 0;
+        for (;;)
         {
-            if (ct.IsCancellationRequested) { note = "cancelled during location"; break; }
-            if (_trials >= MaxTrials) { note = $"stopped after {MaxTrials} trial states in this step"; break; }
-            // Newton on μ(t) from the state nearest the root, when its point lies inside the bracket; otherwise Illinois
-            // regula falsi, and bisection when the bracket has not halved in three tries or μ has one sign (or is unknown).
-            double t = 0.5 * (lo.T + hi.T);
-            State? from = null;
-            if (NewtonPoint(best, lo, hi) is { } tn)
+            while (!located)
             {
-                t = tn;
-                from = best;
-                double stepLength = Math.Abs(tn - best.T);
-                // A Newton sequence that at least halves its step converges: do not force a bisection on it.
-                if (stepLength <= 0.5 * lastNewtonStep) sinceHalved = 0;
-                lastNewtonStep = stepLength;
-            }
-            else if (sinceHalved < 3 && double.IsFinite(fLo) && double.IsFinite(fHi) && Math.Sign(fLo) != Math.Sign(fHi))
-            {
-                double tf = lo.T + fLo / (fLo - fHi) * (hi.T - lo.T);
-                if (tf > lo.T && tf < hi.T) t = tf;
-            }
-            if (from is not null && sinceHalved >= 3) { t = 0.5 * (lo.T + hi.T); from = null; }
-            var trial = Trial(t, lo, hi, from, best.Mode, muScale, ct);
-            if (trial is null)
-            {
-                t = 0.5 * (lo.T + hi.T);
-                trial = Trial(t, lo, hi, null, best.Mode, muScale, ct);
-            }
-            else if (from is not null) NewtonTrials++;
-            if (trial is null) { note = $"no equilibrium state found on the hyperplane at t = {t:G6} of the step"; break; }
-            if (trial.Count < 0)
-            {
-                // An exactly singular tangent: the trial is the critical state itself, to rounding.
-                best = trial;
-                located = true;
-                exact = true;
-                estimate = 0;
-                break;
-            }
-            if (trial.Count != lo.Count && trial.Count != hi.Count)
-            {
-                // More than one change of the count in the bracket and this trial separates them: resolve each part. The
-                // trial's eigenpair is the one of either sign nearest zero; each part wants the one of its own crossing's
-                // sign, taken (by Lanczos, no factorisation) while the trial's factorisation is still in place.
-                var lower = ForBracket(trial, lo.Count, trial.Count);
-                var upper = ForBracket(trial, trial.Count, hi.Count);
-                Resolve(lo, lower, muScale, results, ct);
-                Resolve(upper, hi, muScale, results, ct);
-                return;
-            }
-            history.Add(trial);
-            var previousBest = best;
-            if (!double.IsFinite(best.Mu) || Math.Abs(trial.Mu) <= Math.Abs(best.Mu) || from is not null) best = trial;
-            if (trial.Count == lo.Count)
-            {
-                lo = trial; fLo = trial.Mu;
-                if (side == -1 && double.IsFinite(fHi)) fHi *= 0.5; // Illinois: halve the retained end's value when the same end moves twice
-                side = -1;
-            }
-            else
-            {
-                hi = trial; fHi = trial.Mu;
-                if (side == 1 && double.IsFinite(fLo)) fLo *= 0.5;
-                side = 1;
-            }
-            if (hi.T - lo.T <= 0.5 * width) { width = hi.T - lo.T; sinceHalved = 0; } else sinceHalved++;
-            if (Folded(lo, hi))
-            {
-                // Two states close in t but far apart: the hyperplanes cut the path more than once (it turns back in the
-                // chord's direction within the step), so t no longer orders the states along the path.
-                note = "the path turns too sharply within the step for its chord to order the states; a shorter step is needed";
-                folded = true;
-                break;
-            }
+                if (ct.IsCancellationRequested) { note = "cancelled during location"; break; }
+                if (_trials >= MaxTrials) { note = $"stopped after {MaxTrials} trial states in this step"; break; }
+                // Newton on μ(t) from the state nearest the root, when its point lies inside the bracket; otherwise Illinois
+                // regula falsi, and bisection when the bracket has not halved in three tries or μ has one sign (or is unknown).
+                double t = 0.5 * (lo.T + hi.T);
+                State? from = null;
+                if (NewtonPoint(best, lo, hi) is { } tn)
+                {
+                    t = tn;
+                    from = best;
+                    double stepLength = Math.Abs(tn - best.T);
+                    // A Newton sequence that at least halves its step converges: do not force a bisection on it.
+                    if (stepLength <= 0.5 * lastNewtonStep) sinceHalved = 0;
+                    lastNewtonStep = stepLength;
+                }
+                else if (sinceHalved < 3 && double.IsFinite(fLo) && double.IsFinite(fHi) && Math.Sign(fLo) != Math.Sign(fHi))
+                {
+                    double tf = lo.T + fLo / (fLo - fHi) * (hi.T - lo.T);
+                    if (tf > lo.T && tf < hi.T) t = tf;
+                }
+                if (from is not null && sinceHalved >= 3) { t = 0.5 * (lo.T + hi.T); from = null; }
+                if (forcedT is { } ft) { t = ft; from = best.PathTangent is not null ? best : null; forcedT = null; }
+                var trial = Trial(t, lo, hi, from, best.Mode, muScale, ct);
+                if (trial is null)
+                {
+                    t = 0.5 * (lo.T + hi.T);
+                    trial = Trial(t, lo, hi, null, best.Mode, muScale, ct);
+                }
+                else if (from is not null) NewtonTrials++;
+                if (trial is null) { note = $"no equilibrium state found on the hyperplane at t = {t:G6} of the step"; break; }
+                if (trial.Count < 0 && Math.Abs(hi.Count - lo.Count) > 1 && nudges < 3)
+                {
+                    // An exactly singular tangent shows that one eigenvalue is zero here, not how many cross here: a trial a
+                    // hair away (a hundredth of the tolerance) has a regular inertia and the location goes on from it.
+                    nudges++;
+                    double slope = Math.Abs((hi.Lambda - lo.Lambda) / (hi.T - lo.T));
+                    double nudge = 0.01 * tol * Math.Max(1.0, Math.Abs(trial.Lambda)) / slope;
+                    if (!double.IsFinite(nudge) || nudge <= 0) nudge = 1e-12 * (hi.T - lo.T);
+                    forcedT = t - nudge > lo.T ? t - nudge : t + nudge;
+                    continue;
+                }
+                if (trial.Count < 0)
+                {
+                    // An exactly singular tangent: the trial is the critical state itself, to rounding.
+                    best = trial;
+                    located = true;
+                    exact = true;
+                    estimate = 0;
+                    break;
+                }
+                if (trial.Count != lo.Count && trial.Count != hi.Count)
+                {
+                    // More than one change of the count in the bracket and this trial separates them: resolve each part. The
+                    // trial's eigenpair is the one of either sign nearest zero; each part wants the one of its own crossing's
+                    // sign, taken (by Lanczos, no factorisation) while the trial's factorisation is still in place.
+                    var lower = ForBracket(trial, lo.Count, trial.Count);
+                    var upper = ForBracket(trial, trial.Count, hi.Count);
+                    Resolve(lo, lower, muScale, results, ct);
+                    Resolve(upper, hi, muScale, results, ct);
+                    return;
+                }
+                history.Add(trial);
+                var previousBest = best;
+                if (!double.IsFinite(best.Mu) || Math.Abs(trial.Mu) <= Math.Abs(best.Mu) || from is not null) best = trial;
+                if (trial.Count == lo.Count)
+                {
+                    lo = trial; fLo = trial.Mu;
+                    if (side == -1 && double.IsFinite(fHi)) fHi *= 0.5; // Illinois: halve the retained end's value when the same end moves twice
+                    side = -1;
+                }
+                else
+                {
+                    hi = trial; fHi = trial.Mu;
+                    if (side == 1 && double.IsFinite(fLo)) fLo *= 0.5;
+                    side = 1;
+                }
+                if (hi.T - lo.T <= 0.5 * width) { width = hi.T - lo.T; sinceHalved = 0; } else sinceHalved++;
+                if (Folded(lo, hi))
+                {
+                    // Two states close in t but far apart: the hyperplanes cut the path more than once (it turns back in the
+                    // chord's direction within the step), so t no longer orders the states along the path.
+                    note = "the path turns too sharply within the step for its chord to order the states; a shorter step is needed";
+                    folded = true;
+                    break;
+                }
 
-            // The quadratic model's estimate, or Newton's for the trial itself when smaller: the λ change of its own Newton
-            // correction δt = −μ/μ' (which is the error to first order) plus that correction's own uncertainty.
-            estimate = ErrorEstimate(history, lo, hi, best);
-            if (best == trial && NewtonEstimate(trial, previousBest, lo, hi) is { } newton && newton < estimate) estimate = newton;
-            // Or the state reached by that correction along the path tangent, when its estimate is smaller still: it
-            // saves the last factorisation of a converging Newton sequence.
-            var (corrected, correctedEstimate) = Corrected(trial, previousBest, lo, hi);
-            if (best == trial && corrected is not null && correctedEstimate < estimate) { best = corrected; estimate = correctedEstimate; }
-            // Iterate to a third of the asked tolerance: the estimate is a model's, so keep a margin below the promise.
-            if (estimate <= Target * tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; break; }
-            if (best.Origin is not null) best = best.Origin;
-            if (hi.T - lo.T <= 4 * double.Epsilon * Math.Max(1.0, Math.Abs(hi.T)) || hi.T - lo.T < 1e-15)
+                // The quadratic model's estimate, or Newton's for the trial itself when smaller: the λ change of its own Newton
+                // correction δt = −μ/μ' (which is the error to first order) plus that correction's own uncertainty.
+                estimate = ErrorEstimate(history, lo, hi, best);
+                if (best == trial && NewtonEstimate(trial, previousBest, lo, hi) is { } newton && newton < estimate) estimate = newton;
+                // Or the state reached by that correction along the path tangent, when its estimate is smaller still: it
+                // saves the last factorisation of a converging Newton sequence.
+                var (corrected, correctedEstimate) = Corrected(trial, previousBest, lo, hi);
+                if (best == trial && corrected is not null && correctedEstimate < estimate) { best = corrected; estimate = correctedEstimate; }
+                // Iterate to a third of the asked tolerance: the estimate is a model's, so keep a margin below the promise.
+                if (estimate <= Target * tol * Math.Max(1.0, Math.Abs(best.Lambda))) { located = true; break; }
+                if (best.Origin is not null) best = best.Origin;
+                if (hi.T - lo.T <= 4 * double.Epsilon * Math.Max(1.0, Math.Abs(hi.T)) || hi.T - lo.T < 1e-15)
+                {
+                    note = $"the bracket cannot be narrowed further (width {hi.T - lo.T:G3} of the step); estimated λ error {estimate:G3}";
+                    break;
+                }
+            }
+            if (!located || exact || folded || Math.Abs(hi.Count - lo.Count) <= 1) break;
+            var (confirmed, blockModes, blockMu, next) = CheckMultiplicity(best, lo, hi);
+            if (confirmed) { confirmedModes = blockModes; confirmedMu = blockMu; break; }
+            if (next is null || ++evidenceTrials > MaxEvidenceTrials)
             {
-                note = $"the bracket cannot be narrowed further (width {hi.T - lo.T:G3} of the step); estimated λ error {estimate:G3}";
+                located = false;
+                note = $"{Math.Abs(hi.Count - lo.Count)} crossings in this part of the step could not be shown to lie within the tolerance of one load factor nor separated";
                 break;
             }
+            forcedT = next;
+            located = false;
         }
         double relative = double.IsFinite(estimate) ? estimate / Math.Max(1.0, Math.Abs(best.Lambda)) : 1.0;
         if (!located && note.Length == 0) note = "location did not converge";
@@ -311,7 +349,8 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         if (k == 1 && !exact && best.Origin is not null) best.Mode = CorrectedMode(best);
         double[][] modes = [best.Mode];
         double mu = best.Mu;
-        if (k > 1 && !exact)
+        if (confirmedModes is not null) { modes = confirmedModes; mu = confirmedMu; }
+        else if (k > 1 && !exact)
         {
             // Multiplicity k: k modes of the eigenvalues nearest zero at the located state (block inverse iteration), with
             // the factorisation in place when it is that state's or the trial's it was corrected from (modes to O(δt)).
@@ -345,6 +384,67 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         }
         results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
             { Folded = folded, FactoredNear = best.Origin?.U });
+    }
+
+    /// <summary>Multiplicities up to this are confirmed from the k eigenpairs nearest zero (block inverse iteration, which
+    /// the modes need anyway); larger ones, or a failed check, by the inertia of trials on both sides of the root.</summary>
+    private const int BlockCheckLimit = 4;
+
+    /// <summary>Forced evidence trials per bracket before a multiple point is reported as not located.</summary>
+    private const int MaxEvidenceTrials = 6;
+
+    /// <summary>
+    /// Whether the k = |Δcount| crossings of the bracket [lo, hi] lie within the asked tolerance of the located root
+    /// (best): by inertia, when both ends' λ lie within it (Sylvester's law of inertia: the count of negative pivots is
+    /// the count of negative eigenvalues); or, for k ≤ <see cref="BlockCheckLimit"/>, from the k eigenpairs nearest zero
+    /// at the factorised trial F, each of whose Newton roots t_F − μ_j/μ'_j must fall within the tolerance of best (the
+    /// same first-order estimate the location itself rests on). Otherwise the t of an evidence trial just past the root
+    /// (a tenth of the tolerance) toward the end farther from it in λ: its count either closes the bracket there or
+    /// splits it, so that distinct crossings close together are separated rather than reported as one.
+    /// </summary>
+    private (bool Confirmed, double[][]? Modes, double Mu, double? Next) CheckMultiplicity(State best, State lo, State hi)
+    {
+        int k = Math.Abs(hi.Count - lo.Count);
+        double tolAbs = controls.CriticalPointTolerance * Math.Max(1.0, Math.Abs(best.Lambda));
+        if (Math.Abs(lo.Lambda - best.Lambda) <= tolAbs && Math.Abs(hi.Lambda - best.Lambda) <= tolAbs) return (true, null, 0, null);
+        var f = _factored;
+        if (k <= BlockCheckLimit && f is not null && (f == best || f == best.Origin) && f.PathTangent is not null
+            && double.IsFinite(f.LambdaRate) && sys.Factor.Status != LdlStatus.ZeroPivot)
+        {
+            var (values, vectors) = NearNullMode.ComputeBlock(sys, k, best.Mode, absoluteTolerance: _blockAbsolute);
+            var rates = ModeRates(f, vectors);
+            bool all = true;
+            for (int j = 0; j < k && all; j++)
+            {
+                double lambda = f.Lambda - f.LambdaRate * values[j] / rates[j];
+                all = double.IsFinite(lambda) && Math.Abs(lambda - best.Lambda) <= tolAbs;
+            }
+            if (all) return (true, vectors, values[0], null);
+        }
+        var far = Math.Abs(lo.Lambda - best.Lambda) >= Math.Abs(hi.Lambda - best.Lambda) ? lo : hi;
+        double rate = double.IsFinite(best.LambdaRate) && best.LambdaRate != 0 ? best.LambdaRate : (hi.Lambda - lo.Lambda) / (hi.T - lo.T);
+        double step = 0.1 * tolAbs / Math.Abs(rate);
+        double t = best.T + Math.Sign(far.T - best.T) * step;
+        if (!double.IsFinite(t) || !(t > lo.T && t < hi.T)) t = 0.5 * (best.T + far.T);
+        return (false, null, 0, t > lo.T && t < hi.T && t != best.T ? t : null);
+    }
+
+    /// <summary>μ'_j = φ_jᵀ(dK/dt)φ_j of several unit modes at a factorised state, from one pair of tangents at u ± h u'.</summary>
+    private double[] ModeRates(State f, double[][] modes)
+    {
+        var rates = new double[modes.Length];
+        foreach (double h in new[] { RateStep, -RateStep })
+        {
+            Array.Copy(f.U, _uh, _uh.Length);
+            sys.AddFree(_uh, f.PathTangent!, h);
+            sys.Assembler.Tangent(_uh, _kv);
+            for (int j = 0; j < modes.Length; j++)
+            {
+                sys.Assembler.Multiply(_kv, modes[j], _kphi);
+                rates[j] += Math.Sign(h) * EquilibriumSystem.Dot(modes[j], _kphi) / (2 * RateStep);
+            }
+        }
+        return rates;
     }
 
     /// <summary>The trial as an end of the bracket with counts (countLo, countHi): its eigenpair re-picked with the sign
@@ -538,7 +638,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         _factored = s;
         // μ is needed to 10⁻⁶ of itself (it steers the root finding) and, near the root, to 10⁻¹² of its values at the
         // step ends: more would only cost inverse-iteration solves.
-        (s.Mu, s.Mode) = Crossing(modeGuess, CrossingSign(s.Count, lo.Count, hi.Count), 1e-6, 1e-12 * muScale);
+        (s.Mu, s.Mode) = Crossing(modeGuess, CrossingSign(s.Count, lo.Count, hi.Count), TrialTolerance, 1e-12 * muScale);
         Rates(s, null);
         return s;
     }
@@ -568,7 +668,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     /// </summary>
     private (double, double[]) Crossing(double[]? guess, int sign, double tolerance, double absoluteTolerance)
     {
-        var (mu, mode, found) = NearNullMode.NearestOfSign(sys, sign, guess, _basis);
+        var (mu, mode, found) = NearNullMode.NearestOfSign(sys, sign, guess, _basis, tolerance: tolerance);
         return found ? (mu, mode) : NearNullMode.Compute(sys, guess, tolerance: tolerance, absoluteTolerance: absoluteTolerance, mixStart: true);
     }
 

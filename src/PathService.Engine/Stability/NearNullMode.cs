@@ -36,7 +36,7 @@ internal static class NearNullMode
         double mu = double.NaN;
         for (int k = 0; k < maxIterations; k++)
         {
-            sys.Factor.Solve(x);
+            sys.EigenSolve(x);
             if (!Normalize(x)) break;
             sys.Assembler.Multiply(sys.Values, x, kx);
             double next = EquilibriumSystem.Dot(x, kx);
@@ -77,7 +77,7 @@ internal static class NearNullMode
         var previous = new double[k];
         for (int it = 0; it < maxIterations; it++)
         {
-            for (int j = 0; j < k; j++) sys.Factor.Solve(x[j]);
+            for (int j = 0; j < k; j++) sys.EigenSolve(x[j]);
             Orthonormalize(x);
             // Rayleigh-Ritz: H = XᵀKX (k×k), rotate X to H's eigenvectors.
             for (int j = 0; j < k; j++) sys.Assembler.Multiply(sys.Values, x[j], kx[j]);
@@ -130,14 +130,16 @@ internal static class NearNullMode
         maxSteps = Math.Min(maxSteps, n);
         while (basis.Count < maxSteps + 1) basis.Add(new double[n]);
         var q0 = basis[0];
-        // Start: the guess (the mode tracked so far) with a deterministic tenth of every direction, so that the Krylov
-        // space is never confined to one symmetry class.
+        // Start: the unit guess (the mode tracked so far) plus a deterministic vector of norm 0.1 with components in every
+        // direction, so that the Krylov space is never confined to one symmetry class while a good guess still dominates
+        // (a random vector of unscaled entries would outweigh the guess by ~√n and cost the Lanczos steps a good guess saves).
         var rng = new Random(12345);
-        for (int i = 0; i < n; i++) q0[i] = 0.1 * (rng.NextDouble() - 0.5);
+        for (int i = 0; i < n; i++) q0[i] = rng.NextDouble() - 0.5;
+        Normalize(q0);
         if (start is not null && start.Length == n)
         {
             double gn = Math.Sqrt(EquilibriumSystem.Dot(start, start));
-            if (gn > 0) for (int i = 0; i < n; i++) q0[i] += start[i] / gn;
+            if (gn > 0 && double.IsFinite(gn)) for (int i = 0; i < n; i++) q0[i] = 0.1 * q0[i] + start[i] / gn;
         }
         Normalize(q0);
         var alpha = new double[maxSteps];
@@ -148,7 +150,7 @@ internal static class NearNullMode
         for (int j = 0; j < maxSteps; j++)
         {
             var w = basis[j + 1];
-            sys.Factor.Solve(basis[j], w);
+            sys.EigenSolve(basis[j], w);
             alpha[j] = EquilibriumSystem.Dot(basis[j], w);
             // Full reorthogonalisation against the basis, one classical Gram-Schmidt pass (enough for the few tens of steps
             // taken here; each pass costs ~4jn flops, at 30 steps more than a solve).

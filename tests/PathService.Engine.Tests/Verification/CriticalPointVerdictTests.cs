@@ -59,6 +59,37 @@ public class CriticalPointVerdictTests
         Assert.True(Math.Abs(det) > 0.5, $"modes do not span the sway plane: det = {det}");
     }
 
+    /// <summary>
+    /// Distinct crossings close together inside one step are distinct critical points, never one of multiplicity k: a
+    /// row of posts whose springs differ by a relative <paramref name="spread"/> (well above the 1e-9 tolerance) and
+    /// pairs of equal posts (genuine double bifurcations). Closed form per post as above. A located point of
+    /// multiplicity k promises k crossings within its stated error; a one-sided Newton sequence on one eigenvalue
+    /// used to claim all of the step's crossings at that eigenvalue's root.
+    /// </summary>
+    [Theory]
+    [InlineData(1e-4, false)]
+    [InlineData(1e-6, false)]
+    [InlineData(1e-7, true)]
+    public void Close_but_distinct_crossings_in_one_step_are_reported_one_by_one(double spread, bool pairs)
+    {
+        int distinct = 5;
+        var springs = Enumerable.Range(0, distinct).SelectMany(i => Enumerable.Repeat(K * (1 + spread * i), pairs ? 2 : 1)).ToArray();
+        var events = Trace(TestModels.PostRow(L, EA, springs, PRef), new SolverControls { InitialLoadIncrement = 4.0, TargetLoadFactor = 15, MaxPoints = 200 });
+        var cps = events.OfType<CriticalPoint>().ToList();
+        string all = string.Join("; ", cps.Select(c => $"m{c.Multiplicity} λ={c.LoadFactor:R} {c.NegativePivotsBefore}->{c.NegativePivotsAfter} located {c.Located}"));
+        Assert.True(cps.Count == distinct, $"{cps.Count} critical points, {distinct} expected: {all}");
+        for (int i = 0; i < distinct; i++)
+        {
+            double exact = PostCritical(K * (1 + spread * i), L, EA) / PRef;
+            var cp = cps[i];
+            Assert.True(cp.Located, cp.LocationNote);
+            Assert.Equal(pairs ? 2 : 1, cp.Multiplicity);
+            Assert.Equal(CriticalPointKind.Bifurcation, cp.Kind);
+            Assert.True(Math.Abs(cp.LoadFactor - exact) <= 1e-9 * exact, $"point {i}: λ_cr = {cp.LoadFactor:R}, closed form {exact:R}; {all}");
+        }
+        InertiaAccounting.AssertAccounted(events);
+    }
+
     [Fact]
     public void Double_bifurcation_and_limit_point_inside_one_step_are_each_reported()
     {
