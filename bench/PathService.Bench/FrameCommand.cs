@@ -48,6 +48,9 @@ public static class FrameCommand
                     critical++;
                     Console.WriteLine($"  critical point: {c.Kind} λ = {c.LoadFactor:G8} (located {c.Located}, estimated error {c.Tolerance:E1}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}){(c.Located ? "" : ": " + c.LocationNote)}");
                     break;
+                case StepCut cut:
+                    Console.WriteLine($"  step cut: step {cut.Step}, attempt {cut.Attempt}, {cut.Reason}");
+                    break;
                 case PathSummary s:
                     summary = s;
                     break;

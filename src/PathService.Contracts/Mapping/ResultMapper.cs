@@ -52,6 +52,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             CutReason.SingularTangent => Proto.CutReason.SingularTangent,
             CutReason.PathJump => Proto.CutReason.PathJump,
             CutReason.SharpTurn => Proto.CutReason.SharpTurn,
+            CutReason.LocationFailed => Proto.CutReason.LocationFailed,
             _ => Proto.CutReason.Unspecified,
         },
     };

@@ -153,6 +153,12 @@ internal sealed class BranchWalker(TraceSession s)
                             reason = CutReason.SharpTurn;
                             detail = "the path turns back within the step too sharply for its critical point to be located on the step's chord; the step is shortened";
                         }
+                        else if (canShorten && found.Any(f => f.NoTrialState))
+                        {
+                            outcome = CorrectorOutcome.Cut;
+                            reason = CutReason.LocationFailed;
+                            detail = "a critical point in the step could not be located (no equilibrium state on one of the hyperplanes across the step); the step is shortened";
+                        }
                     }
                 }
                 if (outcome != CorrectorOutcome.Cut) break;
@@ -399,6 +405,7 @@ internal sealed class BranchWalker(TraceSession s)
                 AdditionalModes = r.ModesFree.Skip(1).Select(FullMode).ToArray(),
                 LocationNote = r.Note,
                 Folded = r.Folded,
+                NoTrialState = r.NoTrialState,
                 Sensitivity = sensitivity,
                 DirectionalSensitivity = directional,
             });

@@ -43,6 +43,9 @@ public enum CutReason
     PathJump,
     /// <summary>The path turned back within the step too sharply for a critical point in it to be located on the step's chord; retried shorter.</summary>
     SharpTurn,
+    /// <summary>A critical point in the step could not be located: no equilibrium state was found on one of the hyperplanes
+    /// across the step (e.g. a long step through a snap with large rotations); retried shorter.</summary>
+    LocationFailed,
 }
 
 /// <summary>A step that failed to converge and was retried with a smaller increment.</summary>
@@ -90,6 +93,8 @@ public sealed record CriticalPoint(
 
     /// <summary>Engine-internal: the step's chord could not order the states around this point (the walker then shortens the step).</summary>
     internal bool Folded { get; init; }
+    /// <summary>No equilibrium state was found on one of the step's hyperplanes (the step is retried shorter when it can be).</summary>
+    internal bool NoTrialState { get; init; }
 }
 
 /// <summary>

@@ -29,6 +29,8 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     {
         /// <summary>The chord of the step could not order the states (the path turns back within it): shorten the step.</summary>
         public bool Folded { get; init; }
+        /// <summary>No equilibrium state was found on one of the step's hyperplanes: a shorter step may resolve the point.</summary>
+        public bool NoTrialState { get; init; }
         /// <summary>The factorised trial state the located state was reached from by the last Newton correction (null: none).</summary>
         public double[]? FactoredNear { get; init; }
     }
@@ -195,7 +197,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         double width = hi.T - lo.T, lastNewtonStep = double.PositiveInfinity;
         State best = !double.IsFinite(lo.Mu) || Math.Abs(hi.Mu) <= Math.Abs(lo.Mu) ? hi : lo;
         string note = "";
-        bool located = false, exact = false, folded = false;
+        bool located = false, exact = false, folded = false, noTrialState = false;
         double estimate = double.PositiveInfinity;
         double tol = controls.CriticalPointTolerance;
         // An end that is already at the root (a trial that split a bracket lands there when two crossings lie on either
@@ -249,7 +251,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
                     trial = Trial(t, lo, hi, null, best.Mode, muScale, ct);
                 }
                 else if (from is not null) NewtonTrials++;
-                if (trial is null) { note = $"no equilibrium state found on the hyperplane at t = {t:G6} of the step"; break; }
+                if (trial is null) { note = $"no equilibrium state found on the hyperplane at t = {t:G6} of the step"; noTrialState = true; break; }
                 if (trial.Count < 0 && Math.Abs(hi.Count - lo.Count) > 1 && nudges < 3)
                 {
                     // An exactly singular tangent shows that one eigenvalue is zero here, not how many cross here: a trial a
@@ -383,7 +385,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
             }
         }
         results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
-            { Folded = folded, FactoredNear = best.Origin?.U });
+            { Folded = folded, NoTrialState = noTrialState && !located, FactoredNear = best.Origin?.U });
     }
 
     /// <summary>Multiplicities up to this are confirmed from the k eigenpairs nearest zero (block inverse iteration, which
