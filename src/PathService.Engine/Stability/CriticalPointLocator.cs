@@ -80,8 +80,21 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     /// <summary>Relative error assumed of the differenced μ' in the error estimate (truncation and rounding above, with a margin).</summary>
     private const double RateError = 1e-6;
 
-    /// <summary>Relative residual of the Lanczos Ritz pair at a trial (see <see cref="NearNullMode.NearestOfSign"/>).</summary>
+    /// <summary>Relative residual of the Lanczos Ritz pair at a trial near the root (see <see cref="NearNullMode.NearestOfSign"/>).</summary>
     private const double TrialTolerance = 1e-6;
+
+    /// <summary>
+    /// The Lanczos tolerance at a Newton trial as a function of its μ: the mode's error (about the residual) enters μ' to
+    /// first order, and an error ε in μ' moves the next Newton point by ε|δt|, δt = μ/μ' (rate of the state the trial came
+    /// from); a hundredth of |δt| keeps that below the step's own quadratic error, so far from the root a few digits do,
+    /// and next to it <see cref="TrialTolerance"/> applies (the trials the location rests on). Null for other trials.
+    /// </summary>
+    private static Func<double, double>? TrialToleranceFor(State? from)
+    {
+        if (from is null || !double.IsFinite(from.MuRate) || from.MuRate == 0) return null;
+        double rate = Math.Abs(from.MuRate);
+        return mu => Math.Clamp(0.01 * Math.Abs(mu) / rate, TrialTolerance, 1e-3);
+    }
 
     /// <summary>Trials that went to Newton's point, and trials in all (for the tests and the bench).</summary>
     public int NewtonTrials { get; private set; }
@@ -640,7 +653,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         _factored = s;
         // μ is needed to 10⁻⁶ of itself (it steers the root finding) and, near the root, to 10⁻¹² of its values at the
         // step ends: more would only cost inverse-iteration solves.
-        (s.Mu, s.Mode) = Crossing(modeGuess, CrossingSign(s.Count, lo.Count, hi.Count), TrialTolerance, 1e-12 * muScale);
+        (s.Mu, s.Mode) = Crossing(modeGuess, CrossingSign(s.Count, lo.Count, hi.Count), TrialTolerance, 1e-12 * muScale, TrialToleranceFor(from));
         Rates(s, null);
         return s;
     }
@@ -668,9 +681,9 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     /// the crossing's sign at this state (Lanczos on K⁻¹), so that a soft mode of the other sign that does not cross is
     /// never tracked; inverse iteration when the Krylov space holds no eigenvalue of that sign.
     /// </summary>
-    private (double, double[]) Crossing(double[]? guess, int sign, double tolerance, double absoluteTolerance)
+    private (double, double[]) Crossing(double[]? guess, int sign, double tolerance, double absoluteTolerance, Func<double, double>? toleranceFor = null)
     {
-        var (mu, mode, found) = NearNullMode.NearestOfSign(sys, sign, guess, _basis, tolerance: tolerance);
+        var (mu, mode, found) = NearNullMode.NearestOfSign(sys, sign, guess, _basis, tolerance: tolerance, toleranceFor: toleranceFor);
         return found ? (mu, mode) : NearNullMode.Compute(sys, guess, tolerance: tolerance, absoluteTolerance: absoluteTolerance, mixStart: true);
     }
 

@@ -123,8 +123,10 @@ internal static class NearNullMode
     /// <param name="sign">−1 or +1: the sign wanted; 0: nearest zero of either sign.</param>
     /// <param name="basis">Work space of up to <paramref name="maxSteps"/> + 1 vectors, reused between calls.</param>
     /// <returns>Eigenvalue, mode, and false when no Ritz value of that sign exists in the Krylov space.</returns>
+    /// <param name="toleranceFor">When given, the tolerance as a function of the current estimate of μ (replaces
+    /// <paramref name="tolerance"/>): a caller far from a root needs fewer digits than one next to it.</param>
     public static (double Eigenvalue, double[] Mode, bool Found) NearestOfSign(EquilibriumSystem sys, int sign, double[]? start, List<double[]> basis,
-        int maxSteps = 30, double tolerance = 1e-6)
+        int maxSteps = 30, double tolerance = 1e-6, Func<double, double>? toleranceFor = null)
     {
         int n = sys.FreeCount;
         maxSteps = Math.Min(maxSteps, n);
@@ -183,7 +185,8 @@ internal static class NearNullMode
                 theta = evd.EigenValues[pick].Real;
                 z = new double[steps];
                 for (int i = 0; i < steps; i++) z[i] = evd.EigenVectors[i, pick];
-                if (Math.Abs(beta[j] * z[steps - 1]) <= tolerance * Math.Abs(theta)) break;
+                double wanted = toleranceFor is null ? tolerance : toleranceFor(1.0 / theta);
+                if (Math.Abs(beta[j] * z[steps - 1]) <= wanted * Math.Abs(theta)) break;
             }
             else z = null;
             if (!(beta[j] > 1e-14 * Math.Abs(alpha[j])) || !double.IsFinite(beta[j])) break; // invariant subspace found
