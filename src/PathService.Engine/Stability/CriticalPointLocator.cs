@@ -734,6 +734,15 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         return EquilibriumSystem.Dot(mode, _kphi);
     }
 
+    /// <summary>
+    /// Whether the kept factorisation is nearly singular for a trial at t: its tracked eigenvalue is under a tenth of the
+    /// change μ'·(t − t_kept) expected on the way (e.g. the factorisation of a point just located in a neighbouring part of
+    /// the step). Modified Newton multiplies the error along that mode by |1 − μ(t)/μ_kept| per iteration, so it would
+    /// diverge; full Newton is started at once instead of after the failed iterations.
+    /// </summary>
+    private static bool NearlySingularFor(State kept, double t) =>
+        double.IsFinite(kept.Mu) && double.IsFinite(kept.MuRate) && Math.Abs(kept.Mu) < 0.1 * Math.Abs(kept.MuRate * (t - kept.T));
+
     private bool TrySolveAt(double t, State lo, State hi, State? from, double[] u, out double lambda, CancellationToken ct)
     {
         var c = new StepConstraint(ConstraintKind.Hyperplane, Normal: _d, NormalLoad: _dl, LoadWeight: _w);
@@ -744,7 +753,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         // when that does not converge (the critical mode's stiffness may change sign between the two states).
         Predict(t, lo, hi, from, u, dU, out lambda, out double dLam);
         double firstResidual = sys.Residual(u, lambda, _work);
-        if (_factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot)
+        if (_factored is not null && sys.Factor.Status != LdlStatus.ZeroPivot && !NearlySingularFor(_factored, t))
         {
             var outcome = corrector.Correct(u, ref lambda, dU, ref dLam, c, ModifiedNewtonIterations, tolerance, ct, keepFactor: true);
             if (outcome == CorrectorOutcome.Converged) return true;

@@ -103,7 +103,10 @@ internal static class NearNullMode
                 values[j] = evd.EigenValues[order[j]].Real;
             }
             x = rotated;
-            bool done = it > 1;
+            // Two iterations suffice to compare: near a critical point the wanted eigenvalues are ~0 and the others are not,
+            // so a random start vector's unwanted part shrinks by |μ_k/μ_k+1| per iteration and the Ritz values of the
+            // first iteration are already close to converged.
+            bool done = it > 0;
             for (int j = 0; j < k && done; j++)
                 done = Math.Abs(values[j] - previous[j]) <= tolerance * Math.Max(Math.Abs(values[j]), 1e-300) + absoluteTolerance + 1e-300;
             Array.Copy(values, previous, k);
