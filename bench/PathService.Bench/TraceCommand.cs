@@ -35,6 +35,9 @@ public static class TraceCommand
             Monitored = [new DofReference(SpaceTrussRoof.CentreNodeId(m), Axis.Z)],
             // Default as the engine's own (on): --critical off measures the trace without location.
             DetectCriticalPoints = o.String("critical", defaults.DetectCriticalPoints ? "on" : "off") == "on",
+            // --stop-at-first on: the trace ends at the first critical point (its verdict located), as a caller who only
+            // needs the lowest critical load asks with stop_at_first_critical_point.
+            StopAtFirstCriticalPoint = o.String("stop-at-first", defaults.StopAtFirstCriticalPoint ? "on" : "off") == "on",
         };
         long allocatedBefore = GC.GetTotalAllocatedBytes(true);
         PathSummary? summary = null;
