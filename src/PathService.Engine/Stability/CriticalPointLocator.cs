@@ -231,6 +231,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         double[][]? confirmedModes = null;
         double confirmedMu = 0;
         int evidenceTrials = 0, nudges = 0;
+        State? prior = null; // the state nearest the root before best, with its rates: with best, a Hermite model of μ(t)
         for (;;)
         {
             while (!located)
@@ -241,7 +242,7 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
                 // regula falsi, and bisection when the bracket has not halved in three tries or μ has one sign (or is unknown).
                 double t = 0.5 * (lo.T + hi.T);
                 State? from = null;
-                if (NewtonPoint(best, lo, hi) is { } tn)
+                if (NewtonPoint(best, lo, hi, prior) is { } tn)
                 {
                     t = tn;
                     from = best;
@@ -298,7 +299,11 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
                 }
                 history.Add(trial);
                 var previousBest = best;
-                if (!double.IsFinite(best.Mu) || Math.Abs(trial.Mu) <= Math.Abs(best.Mu) || from is not null) best = trial;
+                if (!double.IsFinite(best.Mu) || Math.Abs(trial.Mu) <= Math.Abs(best.Mu) || from is not null)
+                {
+                    if (best != trial && best.Origin is null && Rated(best)) prior = best;
+                    best = trial;
+                }
                 if (trial.Count == lo.Count)
                 {
                     lo = trial; fLo = trial.Mu;
@@ -484,11 +489,43 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     }
 
     /// <summary>Newton's point t − μ/μ' from a state with a known rate, when it lies strictly inside the bracket.</summary>
-    private static double? NewtonPoint(State s, State lo, State hi)
+    /// <summary>
+    /// Newton's point t − μ/μ' from a state with a known rate, when it lies strictly inside the bracket; refined by the
+    /// root of the cubic Hermite interpolant of μ through this state and <paramref name="prior"/> (values and rates at
+    /// both: error of order (t*−t_p)²(t*−t_s)² against Newton's (t*−t_s)², so a sequence that needed three Newton trials
+    /// usually needs two), when that root stays near Newton's point (within half of Newton's step) and in the bracket.
+    /// </summary>
+    private static double? NewtonPoint(State s, State lo, State hi, State? prior = null)
     {
-        if (!double.IsFinite(s.MuRate) || s.MuRate == 0 || !double.IsFinite(s.Mu) || s.PathTangent is null) return null;
+        if (!Rated(s)) return null;
         double t = s.T - s.Mu / s.MuRate;
-        return double.IsFinite(t) && t > lo.T && t < hi.T ? t : null;
+        if (!(double.IsFinite(t) && t > lo.T && t < hi.T)) return null;
+        if (prior is not null && Rated(prior) && prior.T != s.T && HermiteRoot(prior, s, t) is { } tc
+            && tc > lo.T && tc < hi.T && Math.Abs(tc - t) <= 0.5 * Math.Abs(t - s.T))
+            return tc;
+        return t;
+    }
+
+    private static bool Rated(State s) => double.IsFinite(s.MuRate) && s.MuRate != 0 && double.IsFinite(s.Mu) && s.PathTangent is not null;
+
+    /// <summary>Root near <paramref name="start"/> of the cubic Hermite interpolant of μ with values and rates at p and s
+    /// (Newton's method on the cubic, a few steps); null when it does not settle.</summary>
+    private static double? HermiteRoot(State p, State s, double start)
+    {
+        double t0 = p.T, h = s.T - p.T;
+        double f0 = p.Mu, f1 = s.Mu, d0 = p.MuRate * h, d1 = s.MuRate * h; // rates per unit of x = (t − t0)/h
+        double x = (start - t0) / h;
+        for (int i = 0; i < 8; i++)
+        {
+            double x2 = x * x, x3 = x2 * x;
+            double value = f0 * (2 * x3 - 3 * x2 + 1) + d0 * (x3 - 2 * x2 + x) + f1 * (-2 * x3 + 3 * x2) + d1 * (x3 - x2);
+            double slope = f0 * (6 * x2 - 6 * x) + d0 * (3 * x2 - 4 * x + 1) + f1 * (-6 * x2 + 6 * x) + d1 * (3 * x2 - 2 * x);
+            if (slope == 0 || !double.IsFinite(slope)) return null;
+            double dx = value / slope;
+            x -= dx;
+            if (Math.Abs(dx) <= 1e-15 * Math.Max(1.0, Math.Abs(x))) return double.IsFinite(x) ? t0 + x * h : null;
+        }
+        return null;
     }
 
     /// <summary>
