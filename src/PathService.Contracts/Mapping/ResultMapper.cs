@@ -53,6 +53,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
             CutReason.PathJump => Proto.CutReason.PathJump,
             CutReason.SharpTurn => Proto.CutReason.SharpTurn,
             CutReason.LocationFailed => Proto.CutReason.LocationFailed,
+            CutReason.CrowdedCrossings => Proto.CutReason.CrowdedCrossings,
             _ => Proto.CutReason.Unspecified,
         },
     };

@@ -9,6 +9,14 @@ namespace PathService.Engine.Continuation;
 /// </summary>
 internal sealed class BranchWalker(TraceSession s)
 {
+    /// <summary>A step whose count of negative pivots changes by more than this is cut before its critical points are
+    /// located (at most <see cref="CrowdedStepCuts"/> times): the bench roofs cross up to hundreds of eigenvalues in one
+    /// step, which one chord resolves poorly.</summary>
+    internal const int MaxCrossingsPerStep = 8;
+
+    /// <summary>Cuts of one step for crowded crossings; after them the step's critical points are located as they are.</summary>
+    private const int CrowdedStepCuts = 4;
+
     private readonly double[] _dU = new double[s.Sys.FreeCount];
     private readonly double[] _newPredictor = new double[s.Sys.FreeCount];
     private readonly double[] _previous = new double[s.Model.Dofs.FullCount];
@@ -134,7 +142,17 @@ internal sealed class BranchWalker(TraceSession s)
                     residual = s.Corrector.ResidualNorm;
                     newInertia = sys.Factor.NegativePivotCount;
                     sys.Factor.Solve(sys.ReferenceFree, _newPredictor);
-                    if (newInertia != b.Inertia && c.DetectCriticalPoints)
+                    bool canHalve = attempt < CrowdedStepCuts && Math.Abs(0.5 * increment) >= _minIncrement;
+                    if (c.DetectCriticalPoints && Math.Abs(newInertia - b.Inertia) > MaxCrossingsPerStep && canHalve)
+                    {
+                        // Many eigenvalues crossing within one step: locating them on one chord means long Newton sequences
+                        // between close roots, evidence trials and, near a dense cluster, hyperplane states that are hard to
+                        // converge (a failure there discards the step's work). A shorter step brackets them in smaller groups.
+                        outcome = CorrectorOutcome.Cut;
+                        reason = CutReason.CrowdedCrossings;
+                        detail = $"{Math.Abs(newInertia - b.Inertia)} eigenvalues of the tangent crossed zero within the step (more than {MaxCrossingsPerStep}); the step is shortened so that its critical points are bracketed in smaller groups";
+                    }
+                    else if (newInertia != b.Inertia && c.DetectCriticalPoints)
                     {
                         // Critical-point work is timed apart (with its factorisations and their time) for the summary.
                         long started = System.Diagnostics.Stopwatch.GetTimestamp();

@@ -46,6 +46,8 @@ public enum CutReason
     /// <summary>A critical point in the step could not be located: no equilibrium state was found on one of the hyperplanes
     /// across the step (e.g. a long step through a snap with large rotations); retried shorter.</summary>
     LocationFailed,
+    /// <summary>More eigenvalues crossed zero within the step than one step resolves well (see the walker's limit); retried shorter.</summary>
+    CrowdedCrossings,
 }
 
 /// <summary>A step that failed to converge and was retried with a smaller increment.</summary>

@@ -90,6 +90,35 @@ public class CriticalPointVerdictTests
         InertiaAccounting.AssertAccounted(events);
     }
 
+    /// <summary>
+    /// A step across which more than eight eigenvalues cross zero is cut and retried shorter before location (cut reason
+    /// CrowdedCrossings), and every crossing is still reported on its own at its closed-form load: twelve posts whose
+    /// springs differ by 1 % each, taken in one long first step.
+    /// </summary>
+    [Fact]
+    public void A_step_with_many_crossings_is_shortened_and_each_crossing_located()
+    {
+        const int posts = 12;
+        var springs = Enumerable.Range(0, posts).Select(i => K * (1 + 0.01 * i)).ToArray();
+        var events = Trace(TestModels.PostRow(L, EA, springs, PRef), new SolverControls { InitialLoadIncrement = 14.0, TargetLoadFactor = 15, MaxPoints = 200 });
+        Assert.Contains(events.OfType<StepCut>(), c => c.Reason == CutReason.CrowdedCrossings);
+        var cps = events.OfType<CriticalPoint>().ToList();
+        string all = string.Join("; ", cps.Select(c => $"m{c.Multiplicity} λ={c.LoadFactor:R} {c.NegativePivotsBefore}->{c.NegativePivotsAfter}"));
+        Assert.True(cps.Count == posts, $"{cps.Count} critical points: {all}");
+        for (int i = 0; i < posts; i++)
+        {
+            double exact = PostCritical(springs[i], L, EA) / PRef;
+            Assert.True(cps[i].Located, cps[i].LocationNote);
+            Assert.Equal(1, cps[i].Multiplicity);
+            Assert.True(Math.Abs(cps[i].LoadFactor - exact) <= 1e-9 * exact, $"post {i}: λ_cr = {cps[i].LoadFactor:R}, closed form {exact:R}; {all}");
+        }
+        // No accepted step carries more than eight crossings (the step could be halved each time here).
+        var points = events.OfType<PathPoint>().ToList();
+        for (int i = 1; i < points.Count; i++)
+            Assert.True(Math.Abs(points[i].NegativePivots - points[i - 1].NegativePivots) <= 8, $"step to point {points[i].Index}: {points[i - 1].NegativePivots} → {points[i].NegativePivots}");
+        InertiaAccounting.AssertAccounted(events);
+    }
+
     [Fact]
     public void Double_bifurcation_and_limit_point_inside_one_step_are_each_reported()
     {
