@@ -410,6 +410,9 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
     /// the modes need anyway); larger ones, or a failed check, by the inertia of trials on both sides of the root.</summary>
     private const int BlockCheckLimit = 4;
 
+    /// <summary>Iterations of the block eigenpairs that <see cref="CheckMultiplicity"/> spends before leaving the decision to the inertia.</summary>
+    private const int CheckIterations = 8;
+
     /// <summary>Forced evidence trials per bracket before a multiple point is reported as not located.</summary>
     private const int MaxEvidenceTrials = 6;
 
@@ -431,15 +434,21 @@ internal sealed class CriticalPointLocator(EquilibriumSystem sys, Corrector corr
         if (k <= BlockCheckLimit && f is not null && (f == best || f == best.Origin) && f.PathTangent is not null
             && double.IsFinite(f.LambdaRate) && sys.Factor.Status != LdlStatus.ZeroPivot)
         {
-            var (values, vectors) = NearNullMode.ComputeBlock(sys, k, best.Mode, absoluteTolerance: _blockAbsolute);
-            var rates = ModeRates(f, vectors);
-            bool all = true;
-            for (int j = 0; j < k && all; j++)
+            // Bounded in iterations: next to a cluster of crossings the subspace converges slowly (the next eigenvalues are
+            // almost as small), and one evidence trial's factorisation costs less than many block iterations; the inertia
+            // then decides.
+            var (values, vectors, converged) = NearNullMode.ComputeBlock(sys, k, best.Mode, null, CheckIterations, 1e-10, _blockAbsolute);
+            if (converged)
             {
-                double lambda = f.Lambda - f.LambdaRate * values[j] / rates[j];
-                all = double.IsFinite(lambda) && Math.Abs(lambda - best.Lambda) <= tolAbs;
+                var rates = ModeRates(f, vectors);
+                bool all = true;
+                for (int j = 0; j < k && all; j++)
+                {
+                    double lambda = f.Lambda - f.LambdaRate * values[j] / rates[j];
+                    all = double.IsFinite(lambda) && Math.Abs(lambda - best.Lambda) <= tolAbs;
+                }
+                if (all) return (true, vectors, values[0], null);
             }
-            if (all) return (true, vectors, values[0], null);
         }
         var far = Math.Abs(lo.Lambda - best.Lambda) >= Math.Abs(hi.Lambda - best.Lambda) ? lo : hi;
         double rate = double.IsFinite(best.LambdaRate) && best.LambdaRate != 0 ? best.LambdaRate : (hi.Lambda - lo.Lambda) / (hi.T - lo.T);

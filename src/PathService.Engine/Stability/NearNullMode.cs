@@ -57,6 +57,15 @@ internal static class NearNullMode
     public static (double[] Eigenvalues, double[][] Modes) ComputeBlock(EquilibriumSystem sys, int k, double[]? guess, int maxIterations = 30, double tolerance = 1e-10,
         double absoluteTolerance = 0)
     {
+        var (values, modes, _) = ComputeBlock(sys, k, guess, null, maxIterations, tolerance, absoluteTolerance);
+        return (values, modes);
+    }
+
+    /// <summary><see cref="ComputeBlock(EquilibriumSystem, int, double[], int, double, double)"/> from given start vectors
+    /// (k of them, e.g. a subspace found to a looser tolerance), reporting whether the values met the tolerance.</summary>
+    public static (double[] Eigenvalues, double[][] Modes, bool Converged) ComputeBlock(EquilibriumSystem sys, int k, double[]? guess, double[][]? starts,
+        int maxIterations, double tolerance, double absoluteTolerance)
+    {
         int n = sys.FreeCount;
         k = Math.Clamp(k, 1, n);
         var rng = new Random(4242);
@@ -64,13 +73,21 @@ internal static class NearNullMode
         for (int j = 0; j < k; j++)
         {
             x[j] = new double[n];
+            if (starts is not null && j < starts.Length && starts[j].Length == n)
+            {
+                Array.Copy(starts[j], x[j], n);
+                continue;
+            }
             for (int i = 0; i < n; i++) x[j][i] = rng.NextDouble() - 0.5;
             if (j == 0 && guess is not null && guess.Length == n)
             {
+                // A quarter of a unit random vector beside the unit guess (unscaled random entries would outweigh it by ~√n).
                 double gn = Math.Sqrt(EquilibriumSystem.Dot(guess, guess));
-                if (gn > 0) for (int i = 0; i < n; i++) x[0][i] = 0.25 * x[0][i] + guess[i] / gn;
+                Normalize(x[0]);
+                if (gn > 0 && double.IsFinite(gn)) for (int i = 0; i < n; i++) x[0][i] = 0.25 * x[0][i] + guess[i] / gn;
             }
         }
+        bool converged = false;
         var kx = new double[k][];
         for (int j = 0; j < k; j++) kx[j] = new double[n];
         var values = new double[k];
@@ -110,9 +127,9 @@ internal static class NearNullMode
             for (int j = 0; j < k && done; j++)
                 done = Math.Abs(values[j] - previous[j]) <= tolerance * Math.Max(Math.Abs(values[j]), 1e-300) + absoluteTolerance + 1e-300;
             Array.Copy(values, previous, k);
-            if (done) break;
+            if (done) { converged = true; break; }
         }
-        return (values, x);
+        return (values, x, converged);
     }
 
     /// <summary>
