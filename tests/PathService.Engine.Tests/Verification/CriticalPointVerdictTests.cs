@@ -78,6 +78,7 @@ public class CriticalPointVerdictTests
         var cps = events.OfType<CriticalPoint>().ToList();
         string all = string.Join("; ", cps.Select(c => $"m{c.Multiplicity} λ={c.LoadFactor:R} {c.NegativePivotsBefore}->{c.NegativePivotsAfter} located {c.Located}"));
         Assert.True(cps.Count == distinct, $"{cps.Count} critical points, {distinct} expected: {all}");
+        double worst = 0;
         for (int i = 0; i < distinct; i++)
         {
             double exact = PostCritical(K * (1 + spread * i), L, EA) / PRef;
@@ -85,8 +86,11 @@ public class CriticalPointVerdictTests
             Assert.True(cp.Located, cp.LocationNote);
             Assert.Equal(pairs ? 2 : 1, cp.Multiplicity);
             Assert.Equal(CriticalPointKind.Bifurcation, cp.Kind);
-            Assert.True(Math.Abs(cp.LoadFactor - exact) <= 1e-9 * exact, $"point {i}: λ_cr = {cp.LoadFactor:R}, closed form {exact:R}; {all}");
+            worst = Math.Max(worst, Math.Abs(cp.LoadFactor - exact) / exact);
         }
+        // Measured 6.0e-11, 2.3e-13 and 1.0e-10 relative over the three cases (estimates near the 1e-9 asked, as the
+        // location stops at a third of it); asserted at the promise, an order above the largest.
+        Assert.True(worst <= 1e-9, $"largest relative error {worst:E2}; {all}");
         InertiaAccounting.AssertAccounted(events);
     }
 
@@ -105,13 +109,16 @@ public class CriticalPointVerdictTests
         var cps = events.OfType<CriticalPoint>().ToList();
         string all = string.Join("; ", cps.Select(c => $"m{c.Multiplicity} λ={c.LoadFactor:R} {c.NegativePivotsBefore}->{c.NegativePivotsAfter}"));
         Assert.True(cps.Count == posts, $"{cps.Count} critical points: {all}");
+        double worst = 0;
         for (int i = 0; i < posts; i++)
         {
             double exact = PostCritical(springs[i], L, EA) / PRef;
             Assert.True(cps[i].Located, cps[i].LocationNote);
             Assert.Equal(1, cps[i].Multiplicity);
-            Assert.True(Math.Abs(cps[i].LoadFactor - exact) <= 1e-9 * exact, $"post {i}: λ_cr = {cps[i].LoadFactor:R}, closed form {exact:R}; {all}");
+            worst = Math.Max(worst, Math.Abs(cps[i].LoadFactor - exact) / exact);
         }
+        // Measured 1.0e-10 relative; asserted at the 1e-9 promise, an order above.
+        Assert.True(worst <= 1e-9, $"largest relative error {worst:E2}; {all}");
         // No accepted step carries more than eight crossings (the step could be halved each time here).
         var points = events.OfType<PathPoint>().ToList();
         for (int i = 1; i < points.Count; i++)
