@@ -33,12 +33,15 @@ internal sealed class EquilibriumSystem
     public double SingularPivotRatio { get; }
 
     /// <summary>
-    /// x ← K⁻¹x with the factor alone, for inverse and Lanczos iterations: their own convergence tests absorb a solve's
-    /// rounding (an eigenvector is a direction, refined by the next step anyway), so the residual that the backward-error
-    /// check of an equilibrium solve costs (a product with K, ~25 % of a solve) buys nothing there.
+    /// x ← K⁻¹x for inverse and Lanczos iterations. Their own convergence tests absorb a solve's rounding (an eigenvector
+    /// is a direction, refined by the next step anyway), so once a checked solve with the same factor has met the
+    /// backward-error bound, the residual that the check costs (a product with K, ~25 % of a solve) buys nothing there
+    /// and the factor alone is used. Before any checked solve with this factor, or after one that exceeded the bound
+    /// (an unstable factor), the solve is checked and refined like any other.
     /// </summary>
     public void EigenSolve(Span<double> x)
     {
+        if (!FactorTrusted) { Refined.Solve(x); return; }
         EigenSolves++;
         Refined.Inner.Solve(x);
     }
@@ -46,9 +49,12 @@ internal sealed class EquilibriumSystem
     /// <inheritdoc cref="EigenSolve(Span{double})"/>
     public void EigenSolve(ReadOnlySpan<double> b, Span<double> x)
     {
+        if (!FactorTrusted) { Refined.Solve(b, x); return; }
         EigenSolves++;
         Refined.Inner.Solve(b, x);
     }
+
+    private bool FactorTrusted => Refined.CheckedSinceFactorize > 0 && !Refined.ExceededSinceFactorize;
 
     private readonly double[] _force;
     private readonly int[] _fullOf;

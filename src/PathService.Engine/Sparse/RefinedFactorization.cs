@@ -91,6 +91,13 @@ public sealed class RefinedFactorization : ISymmetricFactorization
     // The backward errors below are as the check evaluates them: exact when above the bound; below it, possibly the
     // upper estimate with max |K_ii| in place of ‖K‖∞ (which spares the pass over the matrix for ‖K‖∞).
 
+    /// <summary>Solves checked since the last factorisation.</summary>
+    public int CheckedSinceFactorize { get; private set; }
+
+    /// <summary>Whether a solve since the last factorisation exceeded the bound before refinement (the factor is then
+    /// not trusted for unchecked solves either).</summary>
+    public bool ExceededSinceFactorize { get; private set; }
+
     /// <summary>Largest backward error of a solve before refinement.</summary>
     public double LargestBackwardError { get; private set; }
 
@@ -112,6 +119,8 @@ public sealed class RefinedFactorization : ISymmetricFactorization
         values.CopyTo(_matrix);
         _matrixNorm = double.NaN;
         _diagonalMax = double.NaN;
+        CheckedSinceFactorize = 0;
+        ExceededSinceFactorize = false;
         return _inner.Factorize(values, singularPivotRatio);
     }
 
@@ -163,9 +172,11 @@ public sealed class RefinedFactorization : ISymmetricFactorization
     private void Finish(double[] b, Span<double> x, double[] r)
     {
         CheckedSolves++;
+        CheckedSinceFactorize++;
         double omega = Omega(b, x, r);
-        if (!double.IsFinite(omega)) { LastBackwardError = omega; return; } // non-finite solutions are the caller's to reject
+        if (!double.IsFinite(omega)) { LastBackwardError = omega; ExceededSinceFactorize = true; return; } // non-finite solutions are the caller's to reject
         if (omega > LargestBackwardError) LargestBackwardError = omega;
+        if (omega > BackwardErrorBound) ExceededSinceFactorize = true;
         for (int step = 0; step < MaxSteps && omega > BackwardErrorBound; step++)
         {
             // x ← x + K⁻¹ r, kept only if it lowers the backward error (refinement cannot help a factor that is too unstable).

@@ -20,10 +20,13 @@ internal sealed partial class CriticalPointLocator
         }
         var s = new State(t, u, lambda, sys.Factor.NegativePivotCount, 0, modeGuess, 0);
         _factored = s;
+        // The path tangent's solve first: checked, it also vouches for the factor before the eigenvalue iterations use it
+        // without the check (EquilibriumSystem.EigenSolve).
+        var predictor = PathPredictor();
         // μ is needed to 10⁻⁶ of itself (it steers the root finding) and, near the root, to 10⁻¹² of its values at the
         // step ends: more would only cost inverse-iteration solves.
         (s.Mu, s.Mode) = Crossing(modeGuess, CrossingSign(s.Count, lo.Count, hi.Count), TrialTolerance, 1e-12 * muScale, TrialToleranceFor(from));
-        Rates(s, null);
+        Rates(s, predictor);
         return s;
     }
 
@@ -58,6 +61,7 @@ internal sealed partial class CriticalPointLocator
 
     private State Describe(double t, double[] u, double lambda, int count, double[]? guess, double tolerance, int sign, double[]? predictor)
     {
+        predictor ??= PathPredictor();
         var (mu, mode) = Crossing(guess, sign, tolerance, 0);
         var s = new State(t, u, lambda, count, mu, mode, 0);
         Rates(s, predictor);
@@ -66,6 +70,14 @@ internal sealed partial class CriticalPointLocator
     }
 
     private static int SignOf(double x) => double.IsFinite(x) ? Math.Sign(x) : 0;
+
+    /// <summary>K⁻¹F_ref with the factorisation in place (a checked solve).</summary>
+    private double[] PathPredictor()
+    {
+        var v = new double[sys.FreeCount];
+        sys.Factor.Solve(sys.ReferenceFree, v);
+        return v;
+    }
 
     /// <summary>
     /// Rates along the chord at the factorised state s: the path tangent satisfies K u' = λ' F_ref and u'·d = ‖d‖², so

@@ -52,4 +52,48 @@ public class NearNullModeTests
         double inCluster = Math.Sqrt(low.Sum(i => Math.Pow(evd.EigenVectors.Column(i).DotProduct(x), 2)));
         Assert.True(inCluster > 0.999 * x.L2Norm(), $"only {inCluster / x.L2Norm():P3} of the mode lies in the lowest cluster");
     }
+
+    /// <summary>
+    /// Eigenvalue iterations skip the backward-error check only on a factor that a checked solve has vouched for: before
+    /// any checked solve with a new factorisation, and on a factor whose checked solve exceeded the bound (here forced by
+    /// a bound of 0, "refine always"), their solves are checked like any other; the result is the same x either way.
+    /// </summary>
+    [Fact]
+    public void Eigenvalue_solves_skip_the_check_only_after_a_checked_solve_met_the_bound()
+    {
+        var model = StructuralModel.Create(LatticeDome.Create());
+        var sys = new EquilibriumSystem(model, 1e-11);
+        sys.Refactor(new double[3 * model.NodeCount]);
+        int n = sys.FreeCount;
+        var x = new double[n];
+        for (int i = 0; i < n; i++) x[i] = Math.Sin(i + 1.0);
+        var y = (double[])x.Clone();
+
+        long checkedBefore = sys.Refined.CheckedSolves, eigenBefore = sys.EigenSolves;
+        sys.EigenSolve(x); // no checked solve with this factor yet: checked
+        Assert.Equal(checkedBefore + 1, sys.Refined.CheckedSolves);
+        Assert.Equal(eigenBefore, sys.EigenSolves);
+
+        var p = new double[n];
+        sys.Factor.Solve(sys.ReferenceFree, p); // meets the bound: the factor is vouched for
+        checkedBefore = sys.Refined.CheckedSolves;
+        sys.EigenSolve(y);
+        Assert.Equal(checkedBefore, sys.Refined.CheckedSolves);
+        Assert.Equal(eigenBefore + 1, sys.EigenSolves);
+        // The unchecked solve gives the checked one's answer here (no refinement acted).
+        for (int i = 0; i < n; i++) Assert.Equal(x[i], y[i], 1e-12 * Math.Max(1, Math.Abs(x[i])));
+
+        sys.Refactor(new double[3 * model.NodeCount]); // a new factorisation: not vouched for again until checked
+        checkedBefore = sys.Refined.CheckedSolves;
+        sys.EigenSolve(y);
+        Assert.Equal(checkedBefore + 1, sys.Refined.CheckedSolves);
+
+        var strict = new EquilibriumSystem(model, 1e-11, backwardErrorBound: 0); // every checked solve "exceeds" the bound
+        strict.Refactor(new double[3 * model.NodeCount]);
+        strict.Factor.Solve(strict.ReferenceFree, new double[n]);
+        checkedBefore = strict.Refined.CheckedSolves;
+        strict.EigenSolve(new double[n].Select((_, i) => 1.0 + i % 3).ToArray());
+        Assert.Equal(checkedBefore + 1, strict.Refined.CheckedSolves);
+        Assert.Equal(0, strict.EigenSolves);
+    }
 }
