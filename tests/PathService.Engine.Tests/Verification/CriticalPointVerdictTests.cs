@@ -149,6 +149,30 @@ public class CriticalPointVerdictTests
         InertiaAccounting.AssertAccounted(events);
     }
 
+    /// <summary>
+    /// stop_at_first_critical_point ends the trace after the step that holds the first critical point, with every
+    /// critical point of that step (the count's changes still add up) and the lowest of them first: three posts 1 % apart
+    /// crossed in one step.
+    /// </summary>
+    [Fact]
+    public void Stopping_at_the_first_critical_point_reports_every_critical_point_of_its_step()
+    {
+        var springs = new[] { K, K * 1.01, K * 1.02 };
+        var events = Trace(TestModels.PostRow(L, EA, springs, PRef), new SolverControls
+        {
+            InitialLoadIncrement = 14.0, TargetLoadFactor = 15, MaxPoints = 200, StopAtFirstCriticalPoint = true,
+        });
+        var cps = events.OfType<CriticalPoint>().ToList();
+        Assert.Equal(3, cps.Count);
+        Assert.All(cps, c => Assert.Equal((cps[0].PointBefore, cps[0].PointAfter), (c.PointBefore, c.PointAfter)));
+        Assert.True(cps[0].LoadFactor < cps[1].LoadFactor && cps[1].LoadFactor < cps[2].LoadFactor);
+        Assert.True(Math.Abs(cps[0].LoadFactor - PostCritical(K, L, EA) / PRef) <= 1e-9 * cps[0].LoadFactor);
+        var last = events.OfType<PathPoint>().Last();
+        Assert.Equal(cps[0].PointAfter, last.Index);
+        Assert.Equal(StopReason.CriticalPointReached, Assert.IsType<PathSummary>(events[^1]).Reason);
+        InertiaAccounting.AssertAccounted(events);
+    }
+
     [Fact]
     public void Double_bifurcation_and_limit_point_inside_one_step_are_each_reported()
     {
