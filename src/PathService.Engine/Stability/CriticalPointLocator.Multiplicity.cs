@@ -76,7 +76,6 @@ internal sealed partial class CriticalPointLocator
         return rates;
     }
 
-
     /// <summary>The trial as an end of the bracket with counts (countLo, countHi): its eigenpair re-picked with the sign
     /// of that bracket's crossing when it has the other sign (the trial's factorisation must be in place).</summary>
     private State ForBracket(State trial, int countLo, int countHi)
