@@ -68,8 +68,13 @@ public sealed class DeadlineAccountingTests(ServerFixture server, ITestOutputHel
         var failed = FailedByReason(server.CollectMetrics());
         output.WriteLine($"client statuses: {string.Join(", ", statuses.Select(kv => $"{kv.Key} {kv.Value}"))}; server reasons: {string.Join(", ", failed.Select(kv => $"{kv.Key} {kv.Value}"))}");
         Assert.True(failed.GetValueOrDefault("DEADLINE_EXCEEDED") >= 150, $"only {failed.GetValueOrDefault("DEADLINE_EXCEEDED")} counted as DEADLINE_EXCEEDED");
-        // Nothing else than deadlines (and, rarely, a busy refusal when a slot was not yet free).
-        Assert.All(failed.Keys, k => Assert.Contains(k, new[] { "DEADLINE_EXCEEDED", "RESOURCE_EXHAUSTED" }));
+        // Nothing else than the caller's doing: deadlines; rarely a busy refusal when a slot was not yet free; and rarely
+        // CANCELLED, when the client's own deadline timer reset the stream before the server's deadline (its header is
+        // relative, so the server's expiry is later by the request's time in transit) by more than the server's 200 ms
+        // slack, which a loaded host can produce: on the wire that reset is a cancellation (seen once in 210 calls on a
+        // CI run with the test suites in parallel). Never a server fault.
+        Assert.All(failed.Keys, k => Assert.Contains(k, new[] { "DEADLINE_EXCEEDED", "RESOURCE_EXHAUSTED", "CANCELLED" }));
+        Assert.True(failed.GetValueOrDefault("CANCELLED") <= 10, $"{failed.GetValueOrDefault("CANCELLED")} counted as CANCELLED");
         string logs = captured.ToString();
         Assert.DoesNotContain("\"@l\":\"Error\"", logs);
         Assert.DoesNotContain("failed unexpectedly", logs);
