@@ -142,6 +142,13 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
         {
             a = new State(0, (double[])ua.Clone(), lambdaA, na, double.NaN, b.Mode, 0);
             a.Slope = _w != 0 ? 0 : SignOf(EquilibriumSystem.Dot(predictorA, _d));
+            // Its path tangent (as in Rates): for the predictors of trials between a and b.
+            double rateA = _w != 0 ? _dl : _dNorm * _dNorm / EquilibriumSystem.Dot(predictorA, _d);
+            if (double.IsFinite(rateA))
+            {
+                a.LambdaRate = rateA;
+                a.PathTangent = predictorA.Select(v => rateA * v).ToArray();
+            }
         }
         else a = FactorAndDescribe(0, (double[])ua.Clone(), lambdaA, na, b.Mode, EndTolerance, CrossingSign(na, na, nb));
         double muScale = double.IsFinite(a.Mu) ? Math.Abs(a.Mu) + Math.Abs(b.Mu) : Math.Abs(b.Mu) + Math.Abs(b.MuRate);

@@ -8,6 +8,14 @@ using PathService.Engine.Sparse;
 
 namespace PathService.Engine.Tests.Sparse;
 
+/// <summary>The budget is process-wide: tests that read its use must not run beside traces of other test classes.</summary>
+[CollectionDefinition(Name, DisableParallelization = true)]
+public sealed class ComputeBudgetCollection
+{
+    public const string Name = "compute budget (runs alone)";
+}
+
+[Collection(ComputeBudgetCollection.Name)]
 public class ComputeBudgetTests
 {
     /// <summary>Records which participants ran.</summary>
