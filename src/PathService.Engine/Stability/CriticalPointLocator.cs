@@ -142,13 +142,6 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
         {
             a = new State(0, (double[])ua.Clone(), lambdaA, na, double.NaN, b.Mode, 0);
             a.Slope = _w != 0 ? 0 : SignOf(EquilibriumSystem.Dot(predictorA, _d));
-            // Its path tangent (as in Rates): for the predictors of trials between a and b.
-            double rateA = _w != 0 ? _dl : _dNorm * _dNorm / EquilibriumSystem.Dot(predictorA, _d);
-            if (double.IsFinite(rateA))
-            {
-                a.LambdaRate = rateA;
-                a.PathTangent = predictorA.Select(v => rateA * v).ToArray();
-            }
         }
         else a = FactorAndDescribe(0, (double[])ua.Clone(), lambdaA, na, b.Mode, EndTolerance, CrossingSign(na, na, nb));
         double muScale = double.IsFinite(a.Mu) ? Math.Abs(a.Mu) + Math.Abs(b.Mu) : Math.Abs(b.Mu) + Math.Abs(b.MuRate);
@@ -180,7 +173,10 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
             var r = results[i];
             double scale = Math.Max(1.0, Math.Abs(r.LoadFactor));
             bool coincident = Math.Abs(p.LoadFactor - r.LoadFactor) <= (controls.CriticalPointTolerance + p.Tolerance + r.Tolerance) * scale;
-            if (!(coincident && p.NegativeAfter == r.NegativeBefore && p.LoadTurns != true && r.LoadTurns != true && !p.Folded && !r.Folded))
+            // Only points located to within a thousand times the tolerance merge: an unlocated one's estimated error can
+            // span other crossings (it would swallow them into one point of a false multiplicity).
+            double near = 1e3 * controls.CriticalPointTolerance;
+            if (!(coincident && p.Tolerance <= near && r.Tolerance <= near && p.NegativeAfter == r.NegativeBefore && p.LoadTurns != true && r.LoadTurns != true && !p.Folded && !r.Folded))
             {
                 merged.Add(r);
                 continue;
@@ -202,7 +198,8 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
             _factored = null;
             bool located = p.Located && r.Located;
             merged[^1] = new Result(keep.LoadFactor, keep.Displacement, mu, modes, p.NegativeBefore, r.NegativeAfter, located,
-                Math.Max(p.Tolerance, r.Tolerance), located ? "" : string.Join("; ", new[] { p.Note, r.Note }.Where(x => x.Length > 0)), false);
+                Math.Max(p.Tolerance, r.Tolerance), located ? "" : string.Join("; ", new[] { p.Note, r.Note }.Where(x => x.Length > 0)), false)
+                { NoTrialState = p.NoTrialState || r.NoTrialState };
         }
         return merged;
     }
