@@ -52,16 +52,7 @@ public class BeamWiringTests
 
     private const double B = 4.0, H = 0.35, EA = 2.4e5, PRef = 10.0;
 
-    private static ModelDefinition PinnedBeamTruss()
-    {
-        var truss = TestModels.TwoBarTruss(B, H, EA, PRef);
-        return truss with
-        {
-            Bars = [],
-            Beams = truss.Bars.Select(b => new BeamDefinition(b.Id, b.StartNode, b.EndNode, b.ElasticModulus, 0.4 * b.ElasticModulus, b.Area,
-                1e-6, 1e-6, 2e-6, (0, 0, 1)) { StartReleases = BeamEndReleases.Pinned, EndReleases = BeamEndReleases.Pinned }).ToList(),
-        };
-    }
+    private static ModelDefinition PinnedBeamTruss() => BeamModels.WithBarsAsPinnedBeams(TestModels.TwoBarTruss(B, H, EA, PRef));
 
     /// <summary>
     /// Beams released in every rotation at both ends excite no rotation, and their axial law is the bar's (the kernel's
@@ -72,17 +63,7 @@ public class BeamWiringTests
     public void Pinned_beams_follow_the_bar_truss_closed_form_through_both_limit_points()
     {
         var model = StructuralModel.Create(PinnedBeamTruss());
-        var controls = new SolverControls
-        {
-            Method = ContinuationMethod.ArcLength,
-            InitialLoadIncrement = 0.5,
-            ResidualTolerance = 1e-12,
-            Monitored = [new DofReference("apex", Axis.Y)],
-            TargetDisplacementDof = new DofReference("apex", Axis.Y),
-            TargetDisplacement = -2.3 * H,
-            MaxPoints = 400,
-            CriticalPointTolerance = 1e-10,
-        };
+        var controls = BeamModels.ThroughBothLimitPoints(H);
         var events = new PathTracer(model, controls).Trace().ToList();
         double l0 = Math.Sqrt(B * B + H * H), pLimit = 2 * EA * H * H * H / (3 * Math.Sqrt(3) * l0 * l0 * l0);
         var criticals = events.OfType<CriticalPoint>().ToList();

@@ -138,23 +138,8 @@ public class BeamEngineVerificationTests
     {
         const double b = 4.0, h = 0.35, ea = 2.4e5, pRef = 10.0;
         var bars = TestModels.TwoBarTruss(b, h, ea, pRef);
-        var beams = bars with
-        {
-            Bars = [],
-            Beams = bars.Bars.Select(x => new BeamDefinition(x.Id, x.StartNode, x.EndNode, x.ElasticModulus, x.ElasticModulus / 2.6,
-                x.Area, 1e-6, 1e-6, 1e-6, (0, 0, 1)) { StartReleases = BeamEndReleases.Pinned, EndReleases = BeamEndReleases.Pinned }).ToList(),
-        };
-        var controls = new SolverControls
-        {
-            Method = ContinuationMethod.ArcLength,
-            InitialLoadIncrement = 0.5,
-            ResidualTolerance = 1e-12,
-            Monitored = [new DofReference("apex", Axis.Y)],
-            TargetDisplacementDof = new DofReference("apex", Axis.Y),
-            TargetDisplacement = -2.3 * h,
-            MaxPoints = 400,
-            CriticalPointTolerance = 1e-10,
-        };
+        var beams = Beams.BeamModels.WithBarsAsPinnedBeams(bars);
+        var controls = Beams.BeamModels.ThroughBothLimitPoints(h);
         var withBars = new PathTracer(StructuralModel.Create(bars), controls).Trace().ToList();
         var withBeams = new PathTracer(StructuralModel.Create(beams), controls).Trace().ToList();
         var pb = withBars.OfType<PathPoint>().ToList();

@@ -186,12 +186,7 @@ public class LinearBeamVerificationTests(ITestOutputHelper output)
     {
         const double b = 4.0, h = 0.35, ea = 2.4e5, pRef = 10.0;
         var bars = TestModels.TwoBarTruss(b, h, ea, pRef);
-        var beams = bars with
-        {
-            Bars = [],
-            Beams = bars.Bars.Select(x => new BeamDefinition(x.Id, x.StartNode, x.EndNode, x.ElasticModulus, x.ElasticModulus / 2.6,
-                x.Area, 1e-6, 1e-6, 1e-6, (0, 0, 1)) { StartReleases = BeamEndReleases.Pinned, EndReleases = BeamEndReleases.Pinned }).ToList(),
-        };
+        var beams = Beams.BeamModels.WithBarsAsPinnedBeams(bars);
         var mb = StructuralModel.Create(bars);
         var mm = StructuralModel.Create(beams);
         var sb = LinearStaticAnalysis.Run(mb);
