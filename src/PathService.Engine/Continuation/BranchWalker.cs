@@ -165,17 +165,15 @@ internal sealed class BranchWalker(TraceSession s)
                         s.CriticalPointSolves += sys.Solves - solves;
                         s.CriticalPointFactorizationTime += sys.FactorizationTime - factorTime;
                         bool canShorten = attempt < c.MaxCutsPerStep && Math.Abs(0.5 * increment) >= _minIncrement;
-                        if (canShorten && found.Any(f => f.Folded))
+                        // A sharp turn first: it explains a failed trial state as well.
+                        var retry = found.Any(f => f.RetryShorter == CutReason.SharpTurn) ? CutReason.SharpTurn : found.FirstOrDefault(f => f.RetryShorter is not null)?.RetryShorter;
+                        if (canShorten && retry is { } why)
                         {
                             outcome = CorrectorOutcome.Cut;
-                            reason = CutReason.SharpTurn;
-                            detail = "the path turns back within the step too sharply for its critical point to be located on the step's chord; the step is shortened";
-                        }
-                        else if (canShorten && found.Any(f => f.NoTrialState))
-                        {
-                            outcome = CorrectorOutcome.Cut;
-                            reason = CutReason.LocationFailed;
-                            detail = "a critical point in the step could not be located (no equilibrium state on one of the hyperplanes across the step); the step is shortened";
+                            reason = why;
+                            detail = why == CutReason.SharpTurn
+                                ? "the path turns back within the step too sharply for its critical point to be located on the step's chord; the step is shortened"
+                                : "a critical point in the step could not be located (no equilibrium state on one of the hyperplanes across the step); the step is shortened";
                         }
                     }
                 }
@@ -405,7 +403,7 @@ internal sealed class BranchWalker(TraceSession s)
             bool keepState = c.FullStateAtCriticalPoints || c.SwitchBranches;
             CriticalLoadSensitivity? sensitivity = null;
             double? directional = null;
-            if (c.DesignSensitivities && r.Located && !r.Folded)
+            if (c.DesignSensitivities && r.Located && r.RetryShorter != CutReason.SharpTurn)
             {
                 // A limit point needs no factorisation; a bifurcation one solve with the tangent at the located state,
                 // refactorised only when the locator's last factorisation belongs to another state (theory §13).
@@ -422,8 +420,7 @@ internal sealed class BranchWalker(TraceSession s)
                 Multiplicity = multiplicity,
                 AdditionalModes = r.ModesFree.Skip(1).Select(FullMode).ToArray(),
                 LocationNote = r.Note,
-                Folded = r.Folded,
-                NoTrialState = r.NoTrialState,
+                RetryShorter = r.RetryShorter,
                 Sensitivity = sensitivity,
                 DirectionalSensitivity = directional,
             });

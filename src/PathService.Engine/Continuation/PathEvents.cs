@@ -93,10 +93,8 @@ public sealed record CriticalPoint(
     /// <summary>dλ_cr along the caller's design direction (<see cref="SolverControls.DesignDirection"/>), when given and defined.</summary>
     public double? DirectionalSensitivity { get; init; }
 
-    /// <summary>Engine-internal: the step's chord could not order the states around this point (the walker then shortens the step).</summary>
-    internal bool Folded { get; init; }
-    /// <summary>No equilibrium state was found on one of the step's hyperplanes (the step is retried shorter when it can be).</summary>
-    internal bool NoTrialState { get; init; }
+    /// <summary>Engine-internal: why the walker should shorten the step to locate this point (null: no need).</summary>
+    internal CutReason? RetryShorter { get; init; }
 }
 
 /// <summary>

@@ -27,10 +27,11 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
     public sealed record Result(double LoadFactor, double[] Displacement, double Eigenvalue, double[][] ModesFree,
         int NegativeBefore, int NegativeAfter, bool Located, double Tolerance, string Note, bool? LoadTurns)
     {
-        /// <summary>The chord of the step could not order the states (the path turns back within it): shorten the step.</summary>
-        public bool Folded { get; init; }
-        /// <summary>No equilibrium state was found on one of the step's hyperplanes: a shorter step may resolve the point.</summary>
-        public bool NoTrialState { get; init; }
+        /// <summary>Why a shorter step is needed to locate this point (null: it is not): <see cref="CutReason.SharpTurn"/>
+        /// when the chord of the step could not order the states (the path turns back within it),
+        /// <see cref="CutReason.LocationFailed"/> when no equilibrium state was found on one of the step's hyperplanes.</summary>
+        public CutReason? RetryShorter { get; init; }
+        public bool Folded => RetryShorter == CutReason.SharpTurn;
         /// <summary>The factorised trial state the located state was reached from by the last Newton correction (null: none).</summary>
         public double[]? FactoredNear { get; init; }
     }
@@ -199,7 +200,7 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
             bool located = p.Located && r.Located;
             merged[^1] = new Result(keep.LoadFactor, keep.Displacement, mu, modes, p.NegativeBefore, r.NegativeAfter, located,
                 Math.Max(p.Tolerance, r.Tolerance), located ? "" : string.Join("; ", new[] { p.Note, r.Note }.Where(x => x.Length > 0)), false)
-                { NoTrialState = p.NoTrialState || r.NoTrialState };
+                { RetryShorter = p.RetryShorter ?? r.RetryShorter };
         }
         return merged;
     }
@@ -407,6 +408,9 @@ internal sealed partial class CriticalPointLocator(EquilibriumSystem sys, Correc
             }
         }
         results.Add(new Result(best.Lambda, best.U, mu, modes, lo.Count, hi.Count, located, located ? Math.Max(relative, 0) : relative, located ? "" : note, turns)
-            { Folded = folded, NoTrialState = noTrialState && !located, FactoredNear = best.Origin?.U });
+            {
+                RetryShorter = folded ? CutReason.SharpTurn : noTrialState && !located ? CutReason.LocationFailed : null,
+                FactoredNear = best.Origin?.U,
+            });
     }
 }
