@@ -38,10 +38,13 @@ public static class TraceCommand
             // --stop-at-first on: the trace ends at the first critical point (its verdict located), as a caller who only
             // needs the lowest critical load asks with stop_at_first_critical_point.
             StopAtFirstCriticalPoint = o.String("stop-at-first", defaults.StopAtFirstCriticalPoint ? "on" : "off") == "on",
+            // --max-located N: locate the first N critical points, report later count changes per step unresolved
+            // (max_located_critical_points); unset as the engine's default (every one).
+            MaxLocatedCriticalPoints = o.Int("max-located", -1) is var limit and >= 0 ? limit : defaults.MaxLocatedCriticalPoints,
         };
         long allocatedBefore = GC.GetTotalAllocatedBytes(true);
         PathSummary? summary = null;
-        int critical = 0, cuts = 0;
+        int critical = 0, cuts = 0, unresolved = 0;
         double firstPoint = 0;
         long allocatedAtFirst = 0, allocatedAtSecond = 0;
         var traceClock = Stopwatch.StartNew();
@@ -58,6 +61,7 @@ public static class TraceCommand
                     break;
                 case CriticalPoint c:
                     critical++;
+                    if (c.Kind == CriticalPointKind.Unresolved) unresolved++;
                     if (verbose || digits) Console.WriteLine($"  critical point: {c.Kind} λ = {(digits ? c.LoadFactor.ToString("R") : c.LoadFactor.ToString("G8"))}, count {c.NegativePivotsBefore} → {c.NegativePivotsAfter}, estimated error {c.Tolerance:E1}{(c.Located ? "" : ", not located: " + c.LocationNote)}");
                     break;
                 case StepCut c:
@@ -133,19 +137,19 @@ public static class TraceCommand
             Math.Max(repeats, 21));
         Console.WriteLine($"interleaved iterations ({checkedRatios.Length}): checked / plain median {100 * checkedRatios[checkedRatios.Length / 2]:F1} %, " +
             $"quartiles {100 * checkedRatios[checkedRatios.Length / 4]:F1}–{100 * checkedRatios[3 * checkedRatios.Length / 4]:F1} %");
-        Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}, first load increment {increment}");
-        Console.WriteLine($"trace: {s.Points} points ({converged} converged after the start), {s.Steps} steps, {cuts} cuts, {critical} critical points, stop: {s.Reason}");
+        Console.WriteLine($"trace: arc length, critical-point location {(controls.DetectCriticalPoints ? "on" : "off")}{(controls.MaxLocatedCriticalPoints is { } max ? $" for the first {max} critical points" : "")}, first load increment {increment}");
+        Console.WriteLine($"trace: {s.Points} points ({converged} converged after the start), {s.Steps} steps, {cuts} cuts, {critical} critical points{(unresolved > 0 ? $" ({unresolved} of them steps left unresolved past the limit)" : "")}, stop: {s.Reason}");
         Console.WriteLine($"  solves refined by the backward-error check: {s.Refinements} refinement steps");
         Console.WriteLine($"  iterations {iterations} ({(double)iterations / Math.Max(1, converged):F2} per point), factorisations {s.Factorizations} ({(double)s.Factorizations / Math.Max(1, converged):F2} per point)");
         Console.WriteLine($"  factorisation time {s.FactorizationTime.TotalSeconds:F2} s ({s.FactorizationTime.TotalSeconds / Math.Max(1, s.Factorizations) * 1000:F1} ms each), rest {traceWall - s.FactorizationTime.TotalSeconds:F2} s");
         double outside = (s.CriticalPointTime - s.CriticalPointFactorizationTime).TotalSeconds;
-        Console.WriteLine($"  critical points: {s.CriticalPointFactorizations} factorisations ({(double)s.CriticalPointFactorizations / Math.Max(1, critical):F2} per point), {s.CriticalPointSolves} solves, " +
+        Console.WriteLine($"  critical points: {s.CriticalPointFactorizations} factorisations ({(double)s.CriticalPointFactorizations / Math.Max(1, critical - unresolved):F2} per located point), {s.CriticalPointSolves} solves, " +
             $"{s.CriticalPointTime.TotalSeconds:F2} s in all, outside factorisations {outside:F2} s = {100 * outside / traceWall:F1} % of the trace wall");
         Console.WriteLine($"  model build {buildTime:F2} s, first point after {firstPoint:F2} s, trace wall {traceWall:F2} s, process wall including start-up {processWall:F2} s, process CPU {processCpu:F1} s");
         Console.WriteLine($"  allocated during the trace {allocated / 1e6:F1} MB: set-up and first point {(allocatedAtFirst - allocatedBefore) / 1e6:F1} MB, " +
             $"second point {(allocatedAtSecond - allocatedAtFirst) / 1e6:F2} MB (first-use buffers), then {(allocatedBefore + allocated - allocatedAtSecond) / 1e3 / Math.Max(1, iterations - 2):F1} kB per iteration (points and events included)");
         var gc = GC.GetGCMemoryInfo();
-        Console.WriteLine($"memory: peak working set {peakAfterTrace / 1e6:F0} MB after the trace; factor arrays {factor.MemoryBytes / 1e6:F0} MB; GC heap {gc.HeapSizeBytes / 1e6:F0} MB, collections gen0/1/2 {GC.CollectionCount(0)}/{GC.CollectionCount(1)}/{GC.CollectionCount(2)}");
+        Console.WriteLine($"memory: peak working set {peakAfterTrace / 1e6:F0} MB after the trace; factor arrays {factor.MemoryBytes / 1e6:F0} MB; GC heap {gc.HeapSizeBytes / 1e6:F0} MB, collections gen0/1/2 {GC.CollectionCount(0)}/{GC.CollectionCount(1)}/{GC.CollectionCount(2)}, GC pauses {GC.GetTotalPauseDuration().TotalSeconds:F2} s in all");
         return s.Completed ? 0 : 1;
     }
 }

@@ -50,6 +50,14 @@ public class BadRequestTests(ServerFixture server)
     }
 
     [Fact]
+    public async Task A_negative_limit_of_located_critical_points_is_a_field_violation()
+    {
+        var v = Violation(await TraceFails(DemoStructures.TwoBarTruss(), controls: new SolverControls { Method = ContinuationMethod.ArcLength, InitialLoadIncrement = 0.5, MaxLocatedCriticalPoints = -3 }),
+            "controls.max_located_critical_points");
+        Assert.Contains("-3", v.Description);
+    }
+
+    [Fact]
     public async Task Missing_reference_load_is_a_field_violation()
     {
         Violation(await TraceFails(DemoStructures.TwoBarTruss(), new LoadCase()), "load_case.reference");

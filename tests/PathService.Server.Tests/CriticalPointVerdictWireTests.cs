@@ -52,6 +52,39 @@ public class CriticalPointVerdictWireTests(ServerFixture server)
     }
 
     [Fact]
+    public async Task Past_the_limit_of_located_critical_points_a_step_arrives_unresolved_without_mode_or_state()
+    {
+        // The post held by two springs (above), traced with detection only: its double crossing is one unresolved entry.
+        const double L = 3.0, EA = 5.0e4, K = 40.0;
+        var m = new StructureModel { Name = "post held by two springs" };
+        m.Nodes.Add(new Node { Id = "base" });
+        m.Nodes.Add(new Node { Id = "top", Y = L });
+        m.Bars.Add(new Bar { Id = "post", StartNode = "base", EndNode = "top", ElasticModulus = 2e8, Area = EA / 2e8 });
+        foreach (var d in new[] { Direction.X, Direction.Y, Direction.Z }) m.Supports.Add(new Support { Node = "base", Direction = d });
+        m.GroundSprings.Add(new GroundSpring { Id = "sway-x", Node = "top", Direction = Direction.X, Stiffness = K });
+        m.GroundSprings.Add(new GroundSpring { Id = "sway-z", Node = "top", Direction = Direction.Z, Stiffness = K });
+        var request = new TracePathRequest
+        {
+            Model = m, LoadCase = new LoadCase { Reference = { new NodalLoad { Node = "top", Fy = -10 } } },
+            Controls = new SolverControls { Method = ContinuationMethod.ArcLength, InitialLoadIncrement = 1.0, TargetLoadFactor = 15, MaxPoints = 100, MaxLocatedCriticalPoints = 0 },
+        };
+        var all = await ReadAll(server.Client.TracePath(request));
+        var cp = Assert.Single(all, r => r.UpdateCase == TracePathResponse.UpdateOneofCase.CriticalPoint).CriticalPoint;
+        double exact = K * L * Math.Sqrt(1 - 2 * K * L / EA) / 10;
+        Assert.Equal(CriticalPointKind.Unresolved, cp.Kind);
+        Assert.False(cp.Located);
+        Assert.Equal(2, cp.Multiplicity);
+        Assert.Equal(2, cp.NegativePivotsAfter - cp.NegativePivotsBefore);
+        Assert.Empty(cp.Mode);
+        Assert.Null(cp.State);
+        Assert.Contains("max_located_critical_points (0)", cp.LocationNote);
+        Assert.Equal(0.5 * (cp.LoadFactorBefore + cp.LoadFactorAfter), cp.LoadFactor);
+        Assert.InRange(exact, cp.LoadFactorBefore, cp.LoadFactorAfter);
+        var summary = all[^1].Summary;
+        Assert.Equal(1, summary.CriticalPoints);
+    }
+
+    [Fact]
     public async Task Snap_back_of_the_load_point_arrives_as_two_displacement_turns()
     {
         // The demo truss (EA = 2.4e5, h = 0.35, L0 = √(16 + h²)) loaded through a link spring k_s = 200 at a cap node.

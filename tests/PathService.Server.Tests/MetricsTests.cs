@@ -78,6 +78,9 @@ public class MetricsTests(ServerFixture server)
         }
         Assert.Equal("target_load_factor_reached", PathService.Server.Telemetry.PathServiceTelemetry.Label(PathService.Engine.Continuation.StopReason.TargetLoadFactorReached));
         Assert.Equal("limit_point", PathService.Server.Telemetry.PathServiceTelemetry.Label(PathService.Engine.Continuation.CriticalPointKind.LimitPoint));
+        Assert.Equal("unresolved", PathService.Server.Telemetry.PathServiceTelemetry.Label(PathService.Engine.Continuation.CriticalPointKind.Unresolved));
+        foreach (var k in Enum.GetValues<PathService.Engine.Continuation.CriticalPointKind>())
+            Assert.NotEqual("unspecified", PathService.Server.Telemetry.PathServiceTelemetry.Label(k));
         foreach (var c in Enum.GetValues<PathService.Engine.Continuation.CutReason>())
         {
             var cut = new PathService.Engine.Continuation.StepCut(1, 1, c, 0.1, 0.05, 3, 1.0, "");

@@ -14,15 +14,17 @@ internal static class Pictures
         string force = Unit(request.Model?.Units?.Force, "kN");
         var first = rec.Points.FirstOrDefault(p => p.Monitored.Count > which);
         string dof = first is null ? "(no monitored displacement)" : $"{first.Monitored[which].Node}.{PathRecorder.Axis(first.Monitored[which].Direction)}";
-        // Critical points are equilibrium points too: draw the curve through them, between their bracketing points.
+        // Critical points are equilibrium points too: draw the curve through them, between their bracketing points (an
+        // unresolved step's entry is not one).
         var points = new List<CurvePoint>();
         foreach (var p in rec.Points.Where(p => p.Monitored.Count > which))
         {
             points.Add(new CurvePoint(p.Monitored[which].Value, p.LoadFactor, p.Stability == Stability.Stable));
-            foreach (var c in rec.Criticals.Where(c => c.PointBefore == p.Index && c.Monitored.Count > which))
+            foreach (var c in rec.Criticals.Where(c => c.PointBefore == p.Index && c.Monitored.Count > which && c.Kind != CriticalPointKind.Unresolved))
                 points.Add(new CurvePoint(c.Monitored[which].Value, c.LoadFactor, p.Stability == Stability.Stable));
         }
-        var markers = rec.Criticals.Where(c => c.Monitored.Count > which).Select(c => new CurveMarker(c.Monitored[which].Value, c.LoadFactor,
+        // An unresolved step's entry is the middle of its chord, not an equilibrium state: listed in the report, not drawn.
+        var markers = rec.Criticals.Where(c => c.Monitored.Count > which && c.Kind != CriticalPointKind.Unresolved).Select(c => new CurveMarker(c.Monitored[which].Value, c.LoadFactor,
             c.Kind == CriticalPointKind.LimitPoint ? "limit" : "bifurcation",
             $"{PathService.Client.Labels.Of(c.Kind)} λ = {c.LoadFactor:G5}")).ToList();
         // Member events sit at the point where they were first seen.

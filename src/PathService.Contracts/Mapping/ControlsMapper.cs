@@ -50,6 +50,7 @@ public static class ControlsMapper
             Monitored = c.Monitored.Select(m => ModelMapper.ToDof(m)!).ToArray(),
             DetectCriticalPoints = c.HasDetectCriticalPoints ? c.DetectCriticalPoints : d.DetectCriticalPoints,
             CriticalPointTolerance = c.HasCriticalPointTolerance ? c.CriticalPointTolerance : d.CriticalPointTolerance,
+            MaxLocatedCriticalPoints = c.HasMaxLocatedCriticalPoints ? c.MaxLocatedCriticalPoints : d.MaxLocatedCriticalPoints,
             FallbackAlignmentThreshold = c.HasFallbackAlignmentThreshold ? c.FallbackAlignmentThreshold : d.FallbackAlignmentThreshold,
             SingularPivotRatio = c.HasSingularPivotRatio ? c.SingularPivotRatio : d.SingularPivotRatio,
             FullStateEvery = c.FullStateEvery,

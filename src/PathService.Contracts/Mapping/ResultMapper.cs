@@ -165,6 +165,7 @@ public sealed class ResultMapper(StructuralModel model, IReadOnlyList<DofReferen
     {
         CriticalPointKind.LimitPoint => Proto.CriticalPointKind.LimitPoint,
         CriticalPointKind.Bifurcation => Proto.CriticalPointKind.Bifurcation,
+        CriticalPointKind.Unresolved => Proto.CriticalPointKind.Unresolved,
         _ => Proto.CriticalPointKind.Unspecified,
     };
 

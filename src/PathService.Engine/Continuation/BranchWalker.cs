@@ -143,7 +143,8 @@ internal sealed class BranchWalker(TraceSession s)
                     newInertia = sys.Factor.NegativePivotCount;
                     sys.Factor.Solve(sys.ReferenceFree, _newPredictor);
                     bool canHalve = attempt < CrowdedStepCuts && Math.Abs(0.5 * increment) >= _minIncrement;
-                    if (c.DetectCriticalPoints && Math.Abs(newInertia - b.Inertia) > MaxCrossingsPerStep && canHalve)
+                    bool locate = c.DetectCriticalPoints && LocationAllowed;
+                    if (locate && Math.Abs(newInertia - b.Inertia) > MaxCrossingsPerStep && canHalve)
                     {
                         // Many eigenvalues crossing within one step: locating them on one chord means long Newton sequences
                         // between close roots, evidence trials and, near a dense cluster, hyperplane states that are hard to
@@ -152,6 +153,8 @@ internal sealed class BranchWalker(TraceSession s)
                         reason = CutReason.CrowdedCrossings;
                         detail = $"{Math.Abs(newInertia - b.Inertia)} eigenvalues of the tangent crossed zero within the step (more than {MaxCrossingsPerStep}); the step is shortened so that its critical points are bracketed in smaller groups";
                     }
+                    else if (newInertia != b.Inertia && c.DetectCriticalPoints && !locate)
+                        found = [Unresolved(_previous, previousLambda, b.Inertia, b.U, lambda, newInertia, b.LastPointIndex, s.Points)];
                     else if (newInertia != b.Inertia && c.DetectCriticalPoints)
                     {
                         // Critical-point work is timed apart (with its factorisations and their time) for the summary.
@@ -426,6 +429,29 @@ internal sealed class BranchWalker(TraceSession s)
             });
         }
         return list;
+    }
+
+    /// <summary>Whether critical points are still to be located: fewer than <see cref="SolverControls.MaxLocatedCriticalPoints"/>
+    /// have gone through location so far (on every branch of the trace).</summary>
+    private bool LocationAllowed =>
+        s.Controls.MaxLocatedCriticalPoints is not { } max || s.Criticals.Count(x => x.Kind != CriticalPointKind.Unresolved) < max;
+
+    /// <summary>
+    /// A step across which the count changed, reported without location once the limit of located critical points is
+    /// reached: its λ and monitored displacements are those of the middle of the step's chord, its estimated error half
+    /// the step's λ span (no bound where λ turns within the step), and it has no mode, eigenvalue or state.
+    /// </summary>
+    private CriticalPoint Unresolved(double[] ua, double la, int na, double[] ub, double lb, int nb, int before, int after)
+    {
+        double lambda = 0.5 * (la + lb);
+        int k = Math.Abs(nb - na);
+        string note = $"not located: max_located_critical_points ({s.Controls.MaxLocatedCriticalPoints}) was reached; the count of negative pivots changed by {nb - na} within this step";
+        return new CriticalPoint(0, CriticalPointKind.Unresolved, lambda, la, lb, before, after, na, nb, 0.0, 0.0,
+            s.Monitored.Select(d => 0.5 * (ua[d] + ub[d])).ToArray(), [], false, 0.5 * Math.Abs(lb - la) / Math.Max(1.0, Math.Abs(lambda)), null)
+        {
+            Multiplicity = k,
+            LocationNote = note,
+        };
     }
 
     /// <summary>A free-DOF mode as a full vector (layout of the DofMap), largest component 1.</summary>

@@ -53,7 +53,10 @@ public enum CutReason
 /// <summary>A step that failed to converge and was retried with a smaller increment.</summary>
 public sealed record StepCut(int Step, int Attempt, CutReason Reason, double RejectedIncrement, double NextIncrement, int Iterations, double ResidualNorm, string Detail) : PathEvent;
 
-public enum CriticalPointKind { LimitPoint, Bifurcation }
+/// <summary>Kind of a critical point; <see cref="Unresolved"/>: the count changed within a step that was not resolved into
+/// its critical points (<see cref="SolverControls.MaxLocatedCriticalPoints"/> reached), so how many there are and of which
+/// kind is not known.</summary>
+public enum CriticalPointKind { LimitPoint, Bifurcation, Unresolved }
 
 /// <summary>
 /// A critical point bracketed by a change of the negative-pivot count between two converged points and then

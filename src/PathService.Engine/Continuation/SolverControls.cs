@@ -60,6 +60,13 @@ public sealed record SolverControls
     public bool DetectCriticalPoints { get; init; } = true;
     public double CriticalPointTolerance { get; init; } = 1e-9;
     /// <summary>
+    /// Locate at most this many critical points along the trace (all branches); null: every one. Once reached, a step
+    /// across which the count changes is reported as one <see cref="CriticalPointKind.Unresolved"/> critical point without
+    /// any location work (no factorisation, no eigenvalue). A step's critical points are located together, so the last
+    /// located step can take the total past the limit. 0: detection only.
+    /// </summary>
+    public int? MaxLocatedCriticalPoints { get; init; }
+    /// <summary>
     /// Fallback classification only: the kind is decided by whether λ turns back at the point; when that cannot be
     /// judged (a step without displacement change), |φ·F_ref|/(‖φ‖‖F_ref‖) below this marks a bifurcation, above it a
     /// limit point (common practice, no source).
@@ -132,6 +139,7 @@ public sealed record SolverControls
         if (TargetDisplacement is { } td && (!double.IsFinite(td) || td == 0)) Err("target_displacement", "target_displacement must be finite and non-zero");
         if (TargetDisplacement is not null && TargetDisplacementDof is null && ControlDof is null) Missing("target_displacement_dof", "a target displacement needs the DOF it applies to");
         if (!double.IsFinite(CriticalPointTolerance) || CriticalPointTolerance <= 0 || CriticalPointTolerance >= 0.1) Err("critical_point_tolerance", "critical_point_tolerance must lie in (0, 0.1)");
+        if (MaxLocatedCriticalPoints is < 0) Err("max_located_critical_points", $"max_located_critical_points is {MaxLocatedCriticalPoints}; it must be zero (detection only) or positive");
         if (!double.IsFinite(FallbackAlignmentThreshold) || FallbackAlignmentThreshold <= 0 || FallbackAlignmentThreshold >= 1) Err("fallback_alignment_threshold", "fallback_alignment_threshold must lie in (0, 1)");
         if (!double.IsFinite(SingularPivotRatio) || SingularPivotRatio <= 0 || SingularPivotRatio > 1e-3) Err("singular_pivot_ratio", $"singular_pivot_ratio is {SingularPivotRatio}; it must lie in (0, 1e-3]");
         if (SwitchBranches && Method != ContinuationMethod.ArcLength) Conflict("switch_branches", "branch switching needs the arc-length method");

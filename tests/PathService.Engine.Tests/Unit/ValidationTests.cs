@@ -243,4 +243,15 @@ public class MemberAndBranchValidationTests
         Assert.Contains("controls.secondary_branch_points", paths);
         Assert.Contains("controls.branch_perturbation", paths);
     }
+
+    [Fact]
+    public void A_negative_limit_of_located_critical_points_is_refused_and_zero_is_allowed()
+    {
+        var model = StructuralModel.Create(TestModels.TwoBarTruss(4, 0.35, 2.4e5, 10));
+        var f = Assert.Single(new SolverControls { MaxLocatedCriticalPoints = -1 }.Validate(model));
+        Assert.Equal("controls.max_located_critical_points", f.FieldPath);
+        Assert.Equal(FindingCode.ControlOutOfRange, f.Code);
+        Assert.Contains("-1", f.Message);
+        Assert.Empty(new SolverControls { MaxLocatedCriticalPoints = 0 }.Validate(model));
+    }
 }
