@@ -54,6 +54,16 @@ internal sealed class EquilibriumSystem
         Refined.Inner.Solve(b, x);
     }
 
+    /// <summary>Two eigenvalue-iteration solves in place, in one pass over the factor: the solves are memory-bound, and
+    /// two right-hand sides cost about 1.4 times one. Bit-identical to two <see cref="EigenSolve(Span{double})"/> calls
+    /// (<see cref="ISymmetricFactorization.Solve2"/> does each right-hand side's operations in the same order).</summary>
+    public void EigenSolve2(Span<double> x1, Span<double> x2)
+    {
+        if (!FactorTrusted) { EigenSolve(x1); EigenSolve(x2); return; }
+        EigenSolves += 2;
+        Refined.Inner.Solve2(x1, x2);
+    }
+
     private bool FactorTrusted => Refined.CheckedSinceFactorize > 0 && !Refined.ExceededSinceFactorize;
 
     private readonly double[] _force;

@@ -82,7 +82,7 @@ internal sealed partial class CriticalPointLocator
     {
         int sign = CrossingSign(trial.Count, countLo, countHi);
         if (sign == 0 || Math.Sign(trial.Mu) == sign || _factored != trial) return trial;
-        var (mu, mode, found) = NearNullMode.NearestOfSign(sys, sign, trial.Mode, _basis);
+        var (mu, mode, found) = NearNullMode.NearestOfSign(sys, sign, trial.Mode, _basis, tolerance: EndTolerance);
         if (!found) return trial;
         var s = new State(trial.T, trial.U, trial.Lambda, trial.Count, mu, mode, trial.Slope)
         {

@@ -94,7 +94,9 @@ internal static class NearNullMode
         var previous = new double[k];
         for (int it = 0; it < maxIterations; it++)
         {
-            for (int j = 0; j < k; j++) sys.EigenSolve(x[j]);
+            for (int j = 0; j < k; j += 2)
+                if (j + 1 < k) sys.EigenSolve2(x[j], x[j + 1]);
+                else sys.EigenSolve(x[j]);
             Orthonormalize(x);
             // Rayleigh-Ritz: H = XᵀKX (k×k), rotate X to H's eigenvectors.
             for (int j = 0; j < k; j++) sys.Assembler.Multiply(sys.Values, x[j], kx[j]);

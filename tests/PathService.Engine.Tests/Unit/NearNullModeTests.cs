@@ -58,6 +58,32 @@ public class NearNullModeTests
     /// any checked solve with a new factorisation, and on a factor whose checked solve exceeded the bound (here forced by
     /// a bound of 0, "refine always"), their solves are checked like any other; the result is the same x either way.
     /// </summary>
+    /// <summary>The paired eigenvalue solve of block iteration gives two single solves' answers bit for bit, counts as two,
+    /// and is checked like them until a checked solve has vouched for the factor.</summary>
+    [Fact]
+    public void Paired_eigenvalue_solve_equals_two_single_ones()
+    {
+        var model = StructuralModel.Create(LatticeDome.Create());
+        var sys = new EquilibriumSystem(model, 1e-11);
+        sys.Refactor(new double[3 * model.NodeCount]);
+        int n = sys.FreeCount;
+        double[] Vector(double shift) => Enumerable.Range(0, n).Select(i => Math.Sin(i + shift)).ToArray();
+
+        long checkedBefore = sys.Refined.CheckedSolves;
+        sys.EigenSolve2(Vector(1), Vector(2)); // not vouched for yet: the first is checked (and vouches), as with two single calls
+        Assert.Equal(checkedBefore + 1, sys.Refined.CheckedSolves);
+        Assert.Equal(1, sys.EigenSolves);
+
+        var x1 = Vector(1); var x2 = Vector(2); var y1 = Vector(1); var y2 = Vector(2);
+        long eigenBefore = sys.EigenSolves;
+        sys.EigenSolve2(x1, x2);
+        Assert.Equal(eigenBefore + 2, sys.EigenSolves);
+        sys.EigenSolve(y1);
+        sys.EigenSolve(y2);
+        Assert.Equal(y1, x1);
+        Assert.Equal(y2, x2);
+    }
+
     [Fact]
     public void Eigenvalue_solves_skip_the_check_only_after_a_checked_solve_met_the_bound()
     {
